@@ -1,0 +1,311 @@
+#!/usr/bin/env python3
+"""Build the Prism Desk web app into dist/ and serve it.
+
+    python3 build.py                  build dist/
+    python3 build.py serve [--port N] build if needed, then serve dist/ on 127.0.0.1
+    python3 build.py --check          build, then verify dist/ against its own precache list
+
+Standard library only; the project's wheel is made with ``python -m pip wheel``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import base64
+import hashlib
+import http.server
+import json
+import os
+import shutil
+import struct
+import subprocess
+import sys
+import zlib
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent
+WEB = ROOT / "web"
+DIST = ROOT / "dist"
+CACHE = ROOT / "build" / "cache"
+PYODIDE = ROOT / "node_modules" / "pyodide"
+RUNTIME = ["pyodide.mjs", "pyodide.asm.mjs", "pyodide.asm.wasm", "python_stdlib.zip"]
+WHEEL_NAME = "prism-desk"
+APP_NAME = "Prism Desk"
+THEME = "#12355b"
+ACCENT = "#f5c542"
+
+# One policy for the <meta> in index.html and the server's header. The meta
+# cannot carry frame-ancestors, so the header adds it.
+CSP = ("default-src 'self'; script-src 'self' 'wasm-unsafe-eval'; worker-src 'self'; "
+       "connect-src 'self'; img-src 'self'; style-src 'self'; font-src 'self'; "
+       "manifest-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'")
+CSP_HEADER = CSP + "; frame-ancestors 'none'"
+
+MIME = {".wasm": "application/wasm", ".mjs": "text/javascript", ".js": "text/javascript",
+        ".webmanifest": "application/manifest+json", ".json": "application/json",
+        ".whl": "application/zip", ".zip": "application/zip", ".svg": "image/svg+xml",
+        ".png": "image/png", ".css": "text/css", ".html": "text/html"}
+
+
+def sha256(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+# ---------------------------------------------------------------- the wheel
+def core_sources() -> list[Path]:
+    files = [ROOT / "pyproject.toml"] + sorted((ROOT / "pycore").rglob("*"))
+    return [f for f in files if f.is_file() and "__pycache__" not in f.parts]
+
+
+def build_wheel() -> Path:
+    """The project's wheel, rebuilt only when pycore/ or pyproject.toml changed."""
+    key = sha256(b"".join(str(f.relative_to(ROOT)).encode() + b"\0" + f.read_bytes()
+                          for f in core_sources()))[:16]
+    out = CACHE / f"wheel-{key}"
+    found = sorted(out.glob("*.whl")) if out.is_dir() else []
+    if found:
+        return found[0]
+    tmp = CACHE / "wheel-tmp"
+    shutil.rmtree(tmp, ignore_errors=True)
+    tmp.mkdir(parents=True)
+    env = dict(os.environ, SOURCE_DATE_EPOCH="1577836800")   # reproducible zip timestamps
+    cmd = [sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(tmp), str(ROOT)]
+    try:
+        import setuptools  # noqa: F401  (a recent one lets the build skip the isolated env)
+        if int(setuptools.__version__.split(".")[0]) >= 77:
+            cmd.insert(4, "--no-build-isolation")
+    except ImportError:
+        pass
+    subprocess.run(cmd, check=True, env=env, cwd=ROOT)
+    wheels = sorted(tmp.glob("*.whl"))
+    if len(wheels) != 1:
+        sys.exit(f"build.py: expected one wheel, found {wheels}")
+    shutil.rmtree(out, ignore_errors=True)
+    tmp.rename(out)
+    return out / wheels[0].name
+
+
+def lock_file(wheel: Path) -> dict:
+    """A lock file listing only this app's own wheel (no CDN, nothing else to fetch)."""
+    upstream = json.loads((PYODIDE / "pyodide-lock.json").read_text())
+    version = wheel.name.split("-")[1]
+    return {"info": upstream["info"], "packages": {WHEEL_NAME: {
+        "name": WHEEL_NAME, "version": version, "file_name": wheel.name,
+        "install_dir": "site", "sha256": sha256(wheel.read_bytes()),
+        "package_type": "package", "imports": ["pycore"], "depends": [],
+        "unvendored_tests": False}}}
+
+
+# ---------------------------------------------------------------- icons
+def png(width: int, pixels: bytearray) -> bytes:
+    rows = b"".join(b"\0" + bytes(pixels[y * width * 4:(y + 1) * width * 4]) for y in range(width))
+
+    def chunk(kind: bytes, data: bytes) -> bytes:
+        return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
+    header = struct.pack(">IIBBBBB", width, width, 8, 6, 0, 0, 0)
+    return (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", header)
+            + chunk(b"IDAT", zlib.compress(rows, 9)) + chunk(b"IEND", b""))
+
+
+# The mark, in units of the icon's side: an amber prism refracting a pale ray
+# toward its base. Everything sits inside the maskable safe circle (r = 0.4).
+PRISM = [(0.50, 0.24), (0.76, 0.70), (0.24, 0.70)]
+RAYS = [((0.12, 0.47), (0.38, 0.47)), ((0.38, 0.47), (0.62, 0.53)), ((0.62, 0.53), (0.88, 0.66))]
+RAY_HALF_WIDTH = 0.022
+
+
+def _segment_distance(px: float, py: float, a: tuple, b: tuple) -> float:
+    (ax, ay), (bx, by) = a, b
+    dx, dy = bx - ax, by - ay
+    t = max(0.0, min(1.0, ((px - ax) * dx + (py - ay) * dy) / (dx * dx + dy * dy)))
+    return ((px - ax - t * dx) ** 2 + (py - ay - t * dy) ** 2) ** 0.5
+
+
+def icon_pixels(size: int) -> bytearray:
+    bg = bytes.fromhex(THEME[1:])
+    fg = bytes.fromhex(ACCENT[1:])
+    ray = bytes.fromhex("ffffff")
+    edges = []
+    for i in range(3):
+        (x1, y1), (x2, y2) = PRISM[i], PRISM[(i + 1) % 3]
+        length = ((x2 - x1) ** 2 + (y2 - y1) ** 2) ** 0.5
+        edges.append((x1, y1, (y2 - y1) / length, -(x2 - x1) / length))   # outward normal
+    out = bytearray(size * size * 4)
+    px_size = 1.0 / size
+    for y in range(size):
+        fy = (y + 0.5) * px_size
+        for x in range(size):
+            fx = (x + 0.5) * px_size
+            colour = list(bg)
+            inside = -max((fx - x1) * nx + (fy - y1) * ny for x1, y1, nx, ny in edges)
+            cover = max(0.0, min(1.0, inside / px_size + 0.5))
+            if cover:
+                colour = [c + (f - c) * cover for c, f in zip(colour, fg)]
+            dist = min(_segment_distance(fx, fy, a, b) for a, b in RAYS) - RAY_HALF_WIDTH
+            cover = max(0.0, min(1.0, -dist / px_size + 0.5)) * (0.55 if inside > 0 else 1.0)
+            if cover:
+                colour = [c + (f - c) * cover for c, f in zip(colour, ray)]
+            out[(y * size + x) * 4:(y * size + x + 1) * 4] = bytes(round(c) for c in colour) + b"\xff"
+    return out
+
+
+def icon_svg() -> str:
+    def pts(points: list) -> str:
+        return " ".join(f"{x * 512:g},{y * 512:g}" for x, y in points)
+    rays = "".join(f'<line x1="{a[0] * 512:g}" y1="{a[1] * 512:g}" x2="{b[0] * 512:g}" '
+                   f'y2="{b[1] * 512:g}"/>' for a, b in RAYS)
+    return ('<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 512 512">'
+            f'<rect width="512" height="512" rx="96" fill="{THEME}"/>'
+            f'<polygon points="{pts(PRISM)}" fill="{ACCENT}"/>'
+            f'<g stroke="#fff" stroke-width="{RAY_HALF_WIDTH * 1024:g}" stroke-linecap="round">'
+            f'{rays}</g></svg>\n')
+
+
+def write_icons(dest: Path) -> None:
+    """PNG icons are slow-ish to draw in pure Python, so they are cached by design."""
+    design = sha256(repr((PRISM, RAYS, RAY_HALF_WIDTH, THEME, ACCENT)).encode())[:12]
+    dest.mkdir(parents=True, exist_ok=True)
+    for size in (192, 512):
+        cached = CACHE / f"icon-{size}-{design}.png"
+        if not cached.exists():
+            CACHE.mkdir(parents=True, exist_ok=True)
+            cached.write_bytes(png(size, icon_pixels(size)))
+        shutil.copyfile(cached, dest / f"icon-{size}.png")
+    (dest / "icon.svg").write_text(icon_svg())
+
+
+def manifest() -> dict:
+    return {
+        "name": APP_NAME, "short_name": APP_NAME, "id": "./", "start_url": "./",
+        "scope": "./", "display": "standalone", "background_color": "#fbfbf8",
+        "theme_color": THEME, "lang": "en",
+        "description": "Prism before each eye and binocular imbalance, by Prentice's rule. Works offline.",
+        "icons": [
+            {"src": "icons/icon-192.png", "sizes": "192x192", "type": "image/png", "purpose": "any"},
+            {"src": "icons/icon-512.png", "sizes": "512x512", "type": "image/png", "purpose": "any"},
+            {"src": "icons/icon-192.png", "sizes": "192x192", "type": "image/png", "purpose": "maskable"},
+            {"src": "icons/icon-512.png", "sizes": "512x512", "type": "image/png", "purpose": "maskable"},
+            {"src": "icons/icon.svg", "sizes": "any", "type": "image/svg+xml"}],
+    }
+
+
+# ---------------------------------------------------------------- the build
+def build() -> None:
+    for name in RUNTIME + ["pyodide-lock.json"]:
+        if not (PYODIDE / name).exists():
+            sys.exit(f"build.py: {PYODIDE / name} is missing: run `npm ci` first")
+    wheel = build_wheel()
+    tmp = DIST.with_name("dist.tmp")
+    shutil.rmtree(tmp, ignore_errors=True)
+    (tmp / "pyodide").mkdir(parents=True)
+    (tmp / "wheels").mkdir()
+    for name in RUNTIME:
+        shutil.copyfile(PYODIDE / name, tmp / "pyodide" / name)
+    shutil.copyfile(wheel, tmp / "wheels" / wheel.name)
+    (tmp / "pyodide-lock.json").write_text(json.dumps(lock_file(wheel), indent=1) + "\n")
+    for src in sorted(WEB.rglob("*")):
+        if src.is_file() and src.name != "sw.js":
+            (tmp / src.relative_to(WEB)).parent.mkdir(parents=True, exist_ok=True)
+            shutil.copyfile(src, tmp / src.relative_to(WEB))
+    html = tmp / "index.html"
+    html.write_text(html.read_text().replace("__CSP__", CSP))
+    (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
+    write_icons(tmp / "icons")
+
+    # The service worker's precache list and cache version come from the files themselves.
+    files = sorted(p for p in tmp.rglob("*") if p.is_file())
+    entries = [["./" + p.relative_to(tmp).as_posix(),
+                "sha256-" + base64.b64encode(hashlib.sha256(p.read_bytes()).digest()).decode()]
+               for p in files]
+    version = sha256(json.dumps(entries).encode())[:12]
+    sw = (WEB / "sw.js").read_text()
+    sw = sw.replace("__VERSION__", version).replace("__PRECACHE__", json.dumps(entries, indent=1))
+    (tmp / "sw.js").write_text(sw)
+    (tmp / "build-info.json").write_text(json.dumps({"version": version, "files": len(entries)}) + "\n")
+
+    shutil.rmtree(DIST, ignore_errors=True)
+    tmp.rename(DIST)
+    print(f"build.py: dist/ ready, version {version}, {len(entries)} precached files")
+
+
+def check() -> int:
+    """Every precached file exists with the listed hash, and nothing points off-origin."""
+    sw = (DIST / "sw.js").read_text()
+    listed = json.loads(sw[sw.index("/*PRECACHE*/") + 12:sw.index("/*END*/")])
+    bad = []
+    for url, integrity in listed:
+        path = DIST / url[2:]
+        digest = base64.b64encode(hashlib.sha256(path.read_bytes()).digest()).decode()
+        if "sha256-" + digest != integrity:
+            bad.append(url)
+    for path in WEB.rglob("*"):
+        text = path.read_text(errors="replace") if path.is_file() else ""
+        for bad_word in ("innerHTML", "insertAdjacentHTML", "document.write", "eval("):
+            if bad_word in text:
+                bad.append(f"{path.name}: {bad_word}")
+        for scheme in ("http://", "https://"):
+            for part in text.split(scheme)[1:]:
+                if not part.startswith("www.w3.org/"):
+                    bad.append(f"{path.name}: {scheme}{part[:30]}")
+    print("build.py --check:", "ok" if not bad else "\n  ".join(["problems:"] + bad))
+    return 1 if bad else 0
+
+
+def needs_build() -> bool:
+    if not (DIST / "sw.js").exists():
+        return True
+    built = (DIST / "sw.js").stat().st_mtime
+    sources = list(WEB.rglob("*")) + core_sources() + [Path(__file__)]
+    return any(p.is_file() and p.stat().st_mtime > built for p in sources)
+
+
+# ---------------------------------------------------------------- the server
+class Handler(http.server.SimpleHTTPRequestHandler):
+    extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
+    quiet = False
+
+    def end_headers(self) -> None:
+        self.send_header("Content-Security-Policy", CSP_HEADER)
+        self.send_header("X-Content-Type-Options", "nosniff")
+        self.send_header("Referrer-Policy", "no-referrer")
+        self.send_header("Cache-Control", "no-cache")
+        super().end_headers()
+
+    def log_message(self, format: str, *args: object) -> None:
+        if not self.quiet:
+            super().log_message(format, *args)
+
+
+def make_server(root: Path, port: int = 0, quiet: bool = False) -> http.server.ThreadingHTTPServer:
+    """A server on 127.0.0.1 (port 0: the system picks one); run serve_forever() yourself."""
+    handler = type("RootHandler", (Handler,), {"quiet": quiet})
+
+    def factory(*args: object, **kwargs: object) -> Handler:
+        return handler(*args, directory=str(root), **kwargs)
+    return http.server.ThreadingHTTPServer(("127.0.0.1", port), factory)
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("command", nargs="?", choices=["build", "serve"], default="build")
+    parser.add_argument("--port", type=int, default=8000, help="port for serve (0: any free port)")
+    parser.add_argument("--quiet", action="store_true", help="serve without a request log")
+    parser.add_argument("--check", action="store_true", help="verify dist/ after building")
+    args = parser.parse_args(argv)
+    if args.command == "build" or needs_build():
+        build()
+    if args.check:
+        return check()
+    if args.command == "serve":
+        server = make_server(DIST, args.port, args.quiet)
+        print(f"Serving dist/ at http://127.0.0.1:{server.server_address[1]}/  (Ctrl+C stops)",
+              flush=True)
+        try:
+            server.serve_forever()
+        except KeyboardInterrupt:
+            pass
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,7 @@
+"""``python -m pycore``: see pycore.cli."""
+
+import sys
+
+from .cli import main
+
+sys.exit(main())

@@ -1,0 +1,36 @@
+"""The one exception family of the core: bad input, with the field it concerns."""
+
+from __future__ import annotations
+
+from typing import Any
+
+
+class CaseError(ValueError):
+    """Input the core refuses.
+
+    ``field`` is the dotted path of the offending value in the case document
+    (``"right.axis"``, ``"points.2.left.up_mm"``; empty for the document
+    itself), ``value`` what was found there, and the message one plain
+    sentence that names the field and says what is allowed.
+    """
+
+    def __init__(self, field: str, message: str, value: Any = None) -> None:
+        self.field = field
+        self.value = value
+        self.message = message
+        super().__init__(message)
+
+    def within(self, prefix: str) -> CaseError:
+        """The same refusal, its field placed under ``prefix``."""
+        if not prefix:
+            return self
+        field = f"{prefix}.{self.field}" if self.field else prefix
+        message = self.message
+        if self.field and message.startswith(self.field):
+            message = field + message[len(self.field):]
+        elif not self.field:
+            message = f"{prefix}: {message}"
+        return CaseError(field, message, self.value)
+
+    def as_dict(self) -> dict[str, Any]:
+        return {"field": self.field, "message": self.message}

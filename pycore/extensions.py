@@ -1,0 +1,1 @@
+"""Imports the modules that register further case sections, results and commands."""
