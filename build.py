@@ -276,13 +276,21 @@ class Handler(http.server.SimpleHTTPRequestHandler):
             super().log_message(format, *args)
 
 
-def make_server(root: Path, port: int = 0, quiet: bool = False) -> http.server.ThreadingHTTPServer:
+class Server(http.server.ThreadingHTTPServer):
+    daemon_threads = True
+
+    def handle_error(self, request: object, client_address: object) -> None:
+        if not isinstance(sys.exc_info()[1], (ConnectionError, TimeoutError)):
+            super().handle_error(request, client_address)   # a browser hanging up is no error
+
+
+def make_server(root: Path, port: int = 0, quiet: bool = False) -> Server:
     """A server on 127.0.0.1 (port 0: the system picks one); run serve_forever() yourself."""
     handler = type("RootHandler", (Handler,), {"quiet": quiet})
 
     def factory(*args: object, **kwargs: object) -> Handler:
         return handler(*args, directory=str(root), **kwargs)
-    return http.server.ThreadingHTTPServer(("127.0.0.1", port), factory)
+    return Server(("127.0.0.1", port), factory)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -91,7 +91,7 @@ def _signed(token: str, field: str, part: str) -> float:
 def parse_prism(text: object, eye: Eye, field: str = "prism") -> Prism:
     """A written prism for ``eye`` (``1.5 BU 2 BI``, ``2.5 @ 37``); empty text is no prism."""
     cleaned = _normalise(text, field)
-    if cleaned in ("", "none", "nil", "0", "-"):
+    if cleaned in ("", "none", "no prism", "nil", "0", "-"):
         return Prism()
     terms = []
     position = 0

@@ -1,0 +1,70 @@
+"""Native timing of one full case evaluation (parse, validate, evaluate, serialise).
+
+Not a test: run ``python bench/core_bench.py [--record]``; with --record the
+figures are appended to bench/results-core.md with the date and machine.
+Goal (issue: core): p95 <= 2 ms for one full case.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime
+import json
+import os
+import platform
+import statistics
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from pycore import extensions  # noqa: E402,F401
+from pycore.cases import read_case_text  # noqa: E402
+from pycore.evaluate import evaluate  # noqa: E402
+
+CASES = sorted((ROOT / "examples").glob("*.json"))
+
+
+def measure(text: str, runs: int) -> list[float]:
+    times = []
+    for _ in range(runs):
+        start = time.perf_counter()
+        json.dumps(evaluate(read_case_text(text)))
+        times.append((time.perf_counter() - start) * 1000.0)
+    return times
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__)
+    parser.add_argument("--runs", type=int, default=2000)
+    parser.add_argument("--record", action="store_true")
+    args = parser.parse_args()
+    lines = []
+    for path in CASES:
+        text = path.read_text()
+        measure(text, 50)  # warm up
+        times = sorted(measure(text, args.runs))
+        p50 = statistics.median(times)
+        p95 = times[int(0.95 * len(times)) - 1]
+        lines.append(f"| {path.stem} | {p50:.3f} | {p95:.3f} | {'yes' if p95 <= 2 else 'NO'} |")
+    header = [
+        f"## {datetime.date.today().isoformat()}: {platform.machine()}, {os.cpu_count()} cores, "
+        f"Python {platform.python_version()}, {args.runs} runs each",
+        "",
+        "| case | p50 ms | p95 ms | p95 <= 2 ms |",
+        "|---|---|---|---|",
+    ]
+    report = "\n".join(header + lines) + "\n"
+    print(report)
+    if args.record:
+        out = ROOT / "bench" / "results-core.md"
+        if not out.exists():
+            out.write_text("# Core benchmark: one full case evaluation, native\n\n")
+        with out.open("a") as handle:
+            handle.write("\n" + report)
+
+
+if __name__ == "__main__":
+    main()
