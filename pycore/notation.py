@@ -32,7 +32,7 @@ _RX = re.compile(
 )
 
 _PRISM_TERM = re.compile(
-    rf"""\s*(?P<amount>{_NUMBER})\s*(?:Δ|pd|\^|prism\s+dioptres?|prism)?\s*
+    rf"""\s*(?P<amount>{_NUMBER})\s*(?:Δ|δ|pd|\^|prism\s+dioptres?|prism)?\s*
     (?:(?P<word>bi|bo|bu|bd|base\s*in|base\s*out|base\s*up|base\s*down|in|out|up|down)
       |(?:@|at|base)\s*(?P<angle>\d+(?:\.\d+)?)\s*°?)
     \s*(?:,|;|\band\b|&|\+)?""",
