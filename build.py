@@ -212,20 +212,26 @@ def build() -> None:
     (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
     write_icons(tmp / "icons")
 
-    # The service worker's precache list and cache version come from the files themselves.
-    files = sorted(p for p in tmp.rglob("*") if p.is_file())
-    entries = [["./" + p.relative_to(tmp).as_posix(),
+    version, count = write_service_worker(tmp)
+    shutil.rmtree(DIST, ignore_errors=True)
+    tmp.rename(DIST)
+    print(f"build.py: dist/ ready, version {version}, {count} precached files")
+
+
+def write_service_worker(root: Path) -> tuple[str, int]:
+    """sw.js for the files under root: the precache list and cache version come from
+    the files' own hashes, so a release can never ship a stale list."""
+    skip = {"sw.js", "build-info.json"}
+    files = sorted(p for p in root.rglob("*") if p.is_file() and p.relative_to(root).as_posix() not in skip)
+    entries = [["./" + p.relative_to(root).as_posix(),
                 "sha256-" + base64.b64encode(hashlib.sha256(p.read_bytes()).digest()).decode()]
                for p in files]
     version = sha256(json.dumps(entries).encode())[:12]
     sw = (WEB / "sw.js").read_text()
     sw = sw.replace("__VERSION__", version).replace("__PRECACHE__", json.dumps(entries, indent=1))
-    (tmp / "sw.js").write_text(sw)
-    (tmp / "build-info.json").write_text(json.dumps({"version": version, "files": len(entries)}) + "\n")
-
-    shutil.rmtree(DIST, ignore_errors=True)
-    tmp.rename(DIST)
-    print(f"build.py: dist/ ready, version {version}, {len(entries)} precached files")
+    (root / "sw.js").write_text(sw)
+    (root / "build-info.json").write_text(json.dumps({"version": version, "files": len(entries)}) + "\n")
+    return version, len(entries)
 
 
 def check() -> int:

@@ -28,6 +28,8 @@ from .lens import Lens, Segment, SlabOff
 from .notation import parse_prescription, parse_prism
 from .power import Prescription
 from .prism import PRISM_LIMIT, Prism
+from .progressive import Progressive
+from .segments import SEGMENT_SHAPES, SegmentOutline
 
 T = TypeVar("T")
 
@@ -59,6 +61,8 @@ class Case:
     frame: Frame | None = None
     name: str = ""
     extras: Mapping[str, Any] = field(default_factory=dict)
+    document: Mapping[str, Any] = field(default_factory=dict, compare=False, repr=False)
+    """The parsed document the case was read from (remedies edit a copy of it)."""
 
     def lens(self, eye: Eye) -> Lens:
         return self.right if eye == "right" else self.left
@@ -166,14 +170,15 @@ def read_case(document: Any) -> Case:
     if "schema" in obj:
         in_range(obj["schema"], "schema", 1, 1)
     extras = {key: reader(obj[key], key) for key, reader in EXTRA_SECTIONS.items() if key in obj}
-    return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras)
+    return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
 
 
 def read_case_text(text: str | bytes) -> Case:
     return read_case(load_json(text))
 
 
-_LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off")
+_LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",
+              "progressive")
 
 
 def read_lens(value: Any, path: str) -> Lens:
@@ -192,7 +197,12 @@ def read_lens(value: Any, path: str) -> Lens:
         raise CaseError(f"{path}.add", f"{path}.add is needed with a segment: give the "
                                        "reading addition in dioptres (0.25 to 6).")
     slab = _read_slab_off(obj["slab_off"], f"{path}.slab_off") if "slab_off" in obj else None
-    return _within(lambda: Lens(rx, prism, add, segment, slab), path)
+    progressive = (_read_progressive(obj["progressive"], f"{path}.progressive")
+                   if "progressive" in obj else None)
+    if progressive is not None and add == 0:
+        raise CaseError(f"{path}.add", f"{path}.add is needed with a progressive: give the "
+                                       "reading addition in dioptres (0.25 to 6).")
+    return _within(lambda: Lens(rx, prism, add, segment, slab, progressive), path)
 
 
 def _prescription(obj: Mapping[str, Any], path: str) -> Prescription:
@@ -231,14 +241,64 @@ def read_prism(value: Any, path: str, eye: Eye) -> Prism:
     return _within(lambda: Prism.prescribed(base_in, base_up), path)
 
 
+_SEGMENT_PLACE_KEYS = ("top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm")
+
+
 def _read_segment(value: Any, path: str) -> Segment:
     obj = _object(value, path, "a segment")
-    _only_keys(obj, path, ("top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm"))
+    _only_keys(obj, path, (*_SEGMENT_PLACE_KEYS, *_SEGMENT_DESIGN_KEYS))
     if "top_mm" not in obj:
         raise CaseError(f"{path}.top_mm", f"{path}.top_mm is missing: give the segment top's "
                                           "height from the distance reference point (mm).")
-    numbers = {k: finite_number(v, f"{path}.{k}", "mm") for k, v in obj.items()}
-    return _within(lambda: Segment(**numbers), path)
+    numbers = {k: finite_number(obj[k], f"{path}.{k}", "mm")
+               for k in _SEGMENT_PLACE_KEYS if k in obj}
+    outline = _read_segment_outline(obj, path)
+    if outline is not None and "optical_centre_below_top_mm" not in numbers:
+        numbers["optical_centre_below_top_mm"] = outline.usual_optical_centre_below_top_mm
+    return _within(lambda: Segment(**numbers, outline=outline), path)
+
+
+# --------------------------------------------------------------------------- lens designs
+# Segment shapes and progressive designs (pycore/segments.py, pycore/progressive.py);
+# docs/case-format.md, "Lens designs and the reading zone".
+
+_SEGMENT_DESIGN_KEYS = ("shape", "diameter_mm", "width_mm")
+_SIZE_KEYS = {"round": "diameter_mm", "flat_top": "width_mm"}
+
+
+def _read_segment_outline(obj: Mapping[str, Any], path: str) -> SegmentOutline | None:
+    """The segment's shape and size; a size alone implies the shape (diameter: round,
+    width: flat-top). None when the case gives neither."""
+    sizes = [key for key in ("diameter_mm", "width_mm") if key in obj]
+    if len(sizes) == 2:
+        raise CaseError(f"{path}.width_mm", f"{path}.width_mm and {path}.diameter_mm both "
+                                            "given; a round segment has a diameter, a "
+                                            "flat-top a width.")
+    shape = obj.get("shape")
+    if shape is None:
+        if not sizes:
+            return None
+        shape = "round" if sizes[0] == "diameter_mm" else "flat_top"
+    if shape not in SEGMENT_SHAPES:
+        raise CaseError(f"{path}.shape", f"{path}.shape must be one of "
+                                         f"{', '.join(SEGMENT_SHAPES)}.", shape)
+    wanted = _SIZE_KEYS.get(shape)
+    if sizes and sizes[0] != wanted:
+        raise CaseError(f"{path}.{sizes[0]}", f"{path}.{sizes[0]} does not fit a {shape} "
+                                              f"segment; give {wanted or 'no size'} instead.")
+    size = finite_number(obj[sizes[0]], f"{path}.{sizes[0]}", "mm") if sizes else None
+    return _within(lambda: SegmentOutline(shape, size), path)
+
+
+_PROGRESSIVE_KEYS = {"prism_reference_below_cross_mm": "mm", "near_depth_mm": "mm",
+                     "near_inset_mm": "mm", "thinning_prism_base_down": "prism dioptres"}
+
+
+def _read_progressive(value: Any, path: str) -> Progressive:
+    obj = _object(value, path, "a progressive design")
+    _only_keys(obj, path, tuple(_PROGRESSIVE_KEYS))
+    numbers = {k: finite_number(v, f"{path}.{k}", _PROGRESSIVE_KEYS[k]) for k, v in obj.items()}
+    return _within(lambda: Progressive(**numbers), path)
 
 
 def _read_slab_off(value: Any, path: str) -> SlabOff:

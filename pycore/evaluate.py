@@ -30,6 +30,11 @@ CAUTIONS = (
     "practitioners.",
 )
 
+FittingPointFinder = Callable[[Case, str], GazePoint | None]
+FITTING_POINT_FINDERS: list[FittingPointFinder] = []
+"""Lens designs and the reading zone may place the fitting's named points
+(``distance``, ``near``) themselves; a finder answers None to leave it to the rule below."""
+
 ExtraEvaluator = Callable[[Case, dict[str, Any]], dict[str, Any] | None]
 EXTRA_RESULTS: dict[str, ExtraEvaluator] = {}
 """Further result sections (remedies, verification, ...) register an evaluator here;
@@ -51,14 +56,23 @@ def resolve_points(case: Case) -> list[GazePoint]:
     """The case's points of gaze, with ``distance`` and ``near`` found from the fitting."""
     resolved = []
     for point in case.points:
-        if isinstance(point, GazePoint):
-            resolved.append(point)
+        found = point if isinstance(point, GazePoint) else _found_by_finders(case, point)
+        if found is not None:
+            resolved.append(found)
         elif point == "distance":
             assert case.fitting is not None
             resolved.append(case.fitting.distance_point())
         else:
             resolved.append(_near_point(case, case.fitting))
     return resolved
+
+
+def _found_by_finders(case: Case, name: str) -> GazePoint | None:
+    for finder in FITTING_POINT_FINDERS:
+        found = finder(case, name)
+        if found is not None:
+            return found
+    return None
 
 
 def _near_point(case: Case, fitting: Fitting | None) -> GazePoint:
@@ -87,6 +101,7 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
             "induced": part.induced.as_dict(eye),
             "from_add": part.from_add.as_dict(eye),
             "from_slab_off": part.from_slab_off.as_dict(eye),
+            "from_thinning": part.from_thinning.as_dict(eye),
         }
         result[eye] = entry
     result["net"] = net.as_dict()

@@ -11,11 +11,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from .checks import in_range, positive
+from .errors import CaseError
 from .eyes import Eye
 from .gaze import LENS_REACH_MM, LensPoint
 from .power import PowerMatrix, Prescription
 from .prentice import induced_prism
 from .prism import PRISM_LIMIT, Prism
+from .progressive import Progressive
+from .segments import SegmentOutline
+from .segments import image_jump as _image_jump
 
 ADD_LIMIT_D = 6.0
 SLAB_OFF_LIMIT = 10.0
@@ -28,11 +32,15 @@ class Segment:
     ``top_mm``: height of the top line; ``optical_centre_below_top_mm``: how
     far below the top line the segment's own optical centre lies;
     ``optical_centre_in_mm``: the segment optical centre's horizontal place.
+    ``outline`` (shape and size, see pycore.segments) decides which points below
+    the top line are within the segment, centred sideways on the optical centre;
+    without one every point at or below the top line is.
     """
 
     top_mm: float
     optical_centre_below_top_mm: float = 0.0
     optical_centre_in_mm: float = 0.0
+    outline: SegmentOutline | None = None
 
     def __post_init__(self) -> None:
         in_range(self.top_mm, "top_mm", -LENS_REACH_MM, LENS_REACH_MM, "mm")
@@ -47,12 +55,18 @@ class Segment:
         return (self.optical_centre_in_mm, self.top_mm - self.optical_centre_below_top_mm)
 
     def covers(self, point: LensPoint) -> bool:
-        """Whether ``point`` is seen through the segment (at or below its top line)."""
-        return point.up_mm <= self.top_mm
+        """Whether ``point`` is seen through the segment (at or below its top line and
+        within its outline where it has one)."""
+        if point.up_mm > self.top_mm:
+            return False
+        if self.outline is None:
+            return True
+        return self.outline.contains(point.in_mm - self.optical_centre_in_mm,
+                                     self.top_mm - point.up_mm)
 
     def image_jump(self, add: float) -> float:
         """Prism jump met crossing the top line: add x (top to segment OC) in cm."""
-        return add * self.optical_centre_below_top_mm / 10.0
+        return _image_jump(add, self.optical_centre_below_top_mm)
 
 
 @dataclass(frozen=True)
@@ -80,18 +94,24 @@ class PrismAtPoint:
     induced: Prism
     from_add: Prism
     from_slab_off: Prism
-    zone: str  # "distance" or "segment"
+    zone: str  # "distance" or "segment"; for a progressive "corridor" or "near"
+    from_thinning: Prism = field(default_factory=Prism)
 
 
 @dataclass(frozen=True)
 class Lens:
-    """A spectacle lens before ``eye``: distance Rx, prescribed prism, optional add etc."""
+    """A spectacle lens before ``eye``: distance Rx, prescribed prism, optional add etc.
+
+    The add is carried by a bifocal ``segment`` or by a ``progressive`` design
+    (pycore.progressive), never both.
+    """
 
     prescription: Prescription
     prism: Prism = field(default_factory=Prism)
     add: float = 0.0
     segment: Segment | None = None
     slab_off: SlabOff | None = None
+    progressive: Progressive | None = None
 
     def __post_init__(self) -> None:
         in_range(self.prism.base_in, "prism.base_in", -PRISM_LIMIT, PRISM_LIMIT,
@@ -100,6 +120,9 @@ class Lens:
                  "prism dioptres")
         if self.add:
             positive(self.add, "add", ADD_LIMIT_D, "dioptres")
+        if self.segment is not None and self.progressive is not None:
+            raise CaseError("progressive", "progressive cannot be given with a segment: a "
+                                           "lens is either a bifocal or a progressive.")
 
     @property
     def power(self) -> PowerMatrix:
@@ -114,9 +137,15 @@ class Lens:
             zone = "segment"
             from_add = induced_prism(PowerMatrix.spherical(self.add), point, eye,
                                      centre_mm=self.segment.optical_centre_mm)
+        from_thinning = Prism()
+        if self.progressive is not None and self.add:
+            zone = self.progressive.zone(point.up_mm)
+            from_add = self.progressive.add_prism(point, self.add)
+            from_thinning = self.progressive.thinning
         from_slab = Prism()
         if self.slab_off is not None and self.slab_off.covers(point):
             from_slab = Prism(0.0, self.slab_off.base_up)
-        total = self.prism + induced + from_add + from_slab
-        return PrismAtPoint(total, self.prism, induced, from_add, from_slab, zone)
+        total = self.prism + induced + from_add + from_slab + from_thinning
+        return PrismAtPoint(total, self.prism, induced, from_add, from_slab, zone,
+                            from_thinning)
 

@@ -4,7 +4,9 @@
 // The protocol is described in docs/worker-protocol.md.
 
 export class Messenger {
-  constructor(worker, { startTimeoutMs = 45000, requestTimeoutMs = 15000, onEvent = () => {} } = {}) {
+  // `early`: messages the worker sent before this object existed (see boot.js).
+  constructor(worker, { startTimeoutMs = 45000, requestTimeoutMs = 15000, onEvent = () => {},
+    early = [], earlyError = null } = {}) {
     this.worker = worker;
     this.pending = new Map();
     this.nextId = 1;
@@ -21,11 +23,22 @@ export class Messenger {
       message: "The calculation engine did not start within " + Math.round(startTimeoutMs / 1000) +
         " seconds.",
     }), startTimeoutMs);
+    const workerError = (message) => this.fail({
+      field: "", code: "worker-error", message: message || "The engine's script could not run.",
+    });
+    if (!worker) {
+      queueMicrotask(() => workerError(earlyError));
+      return;
+    }
+    worker.onmessage = null;
+    worker.onerror = null;
     worker.addEventListener("message", (e) => this.receive(e.data));
     worker.addEventListener("error", (e) => {
       e.preventDefault();
-      this.fail({ field: "", code: "worker-error", message: e.message || "The engine's script could not run." });
+      workerError(e.message);
     });
+    for (const msg of early) this.receive(msg);
+    if (earlyError) queueMicrotask(() => workerError(earlyError));
   }
 
   receive(msg) {
@@ -77,7 +90,7 @@ export class Messenger {
           resolve({ id, ok: false, error: { field: "", code: "timeout", message: "The engine took too long to answer." } });
         }, this.requestTimeoutMs);
       }, () => {});
-      this.worker.postMessage({ id, action, payload });
+      if (this.worker) this.worker.postMessage({ id, action, payload });
     });
   }
 }
