@@ -284,8 +284,9 @@ def _read_segment_outline(obj: Mapping[str, Any], path: str) -> SegmentOutline |
                                          f"{', '.join(SEGMENT_SHAPES)}.", shape)
     wanted = _SIZE_KEYS.get(shape)
     if sizes and sizes[0] != wanted:
+        instead = f"give {wanted} instead" if wanted else "it spans the lens, so leave it out"
         raise CaseError(f"{path}.{sizes[0]}", f"{path}.{sizes[0]} does not fit a {shape} "
-                                              f"segment; give {wanted or 'no size'} instead.")
+                                              f"segment; {instead}.")
     size = finite_number(obj[sizes[0]], f"{path}.{sizes[0]}", "mm") if sizes else None
     return _within(lambda: SegmentOutline(shape, size), path)
 

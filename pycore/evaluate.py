@@ -43,11 +43,12 @@ each receives the case and the result so far, and its answer goes under its key.
 
 def near_horizontal_power(case: Case, eye: Eye) -> float:
     """Horizontal power the eye looks through at near (dioptres): the distance power in
-    the horizontal meridian, plus the add where the near point is in the segment."""
+    the horizontal meridian, plus the add where the near point is in the segment or
+    the lens is a progressive."""
     lens = case.lens(eye)
     power = lens.power.xx
     if (case.fitting is not None and lens.add and lens.segment is not None
-            and -case.fitting.reading_depth_mm <= lens.segment.top_mm):
+            and -case.fitting.reading_depth_mm <= lens.segment.top_mm) or (lens.add and lens.progressive is not None):
         power += lens.add
     return power
 
@@ -139,9 +140,11 @@ def describe_fitting(case: Case) -> dict[str, Any] | None:
         return None
     powers = (near_horizontal_power(case, "right"), near_horizontal_power(case, "left"))
     try:
-        insets = fitting.near_insets_mm(*powers)
-    except ValueError:
+        near = _found_by_finders(case, "near") or _near_point(case, fitting)
+    except CaseError:
         return {"distance_pd_mm": fitting.distance_pd_mm, "near_inset_mm": None}
+    # The insets are read off the near point itself, so they agree with `points`.
+    insets = (near.right.in_mm, near.left.in_mm)
     return {
         "distance_pd_mm": fitting.distance_pd_mm,
         "near_inset_mm": {"right": insets[0], "left": insets[1]},

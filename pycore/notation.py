@@ -25,7 +25,7 @@ _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
 _RX = re.compile(
     rf"""^\s*
     (?P<sph>plano|plan|pl|{_NUMBER})\s*(?:ds|dsph|sph|d)?\.?\s*
-    (?:/?\s*(?P<cyl>{_NUMBER})\s*(?:dc|dcyl|cyl|d)?\s*
+    (?:(?:/\s*|(?<=\s)|(?=[+-]))(?P<cyl>{_NUMBER})\s*(?:dc|dcyl|cyl|d)?\s*
        (?:x|ax|axis|@)\s*(?P<axis>\d+(?:\.\d+)?)\s*°?)?
     \s*$""",
     re.VERBOSE,

@@ -89,10 +89,11 @@ class Wearer:
         if self.near_pd_mm is not None:
             return (self.near_pd_mm / 2.0, self.near_pd_mm / 2.0)
         assert self.distance_mono_pd_mm is not None
-        return tuple(  # type: ignore[return-value]
+        right, left = (
             mono - near_inset_mm(mono, self.working_distance_mm, self.centre_of_rotation_mm,
                                  power_d)
             for mono in self.distance_mono_pd_mm)
+        return (right, left)
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ from .errors import CaseError
 from .reader_limits import limit_sets
 from .readers import readers_request
 from .readers_text import readers_text
-from .stock import read_stock, stock_from_csv
+from .stock import StockPair, read_stock, stock_from_csv
 
 HELP = "rank ready-made readers from a clinic's stock for one wearer"
 
@@ -77,7 +77,7 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _stock(source: str) -> tuple:  # type: ignore[type-arg]
+def _stock(source: str) -> tuple[StockPair, ...]:
     data = read_input(source)
     if source.lower().endswith(".json"):
         return read_stock(load_json(data))

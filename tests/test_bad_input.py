@@ -7,7 +7,7 @@ import json
 from typing import Any
 
 import pytest
-from conftest import run_cli
+from cli_runner import run_cli
 
 GOOD_EYE = {"sphere": -1.0}
 POINT = {"name": "reading", "right": {"in_mm": 2, "up_mm": -10},
@@ -75,6 +75,7 @@ CATALOGUE: list[tuple[str, Any, str]] = [
      "left.prism.amount"),
     ("prism negative amount", case(right=eye(prism="-2 BI")), "right.prism"),
     ("written rx unsigned", case(right={"rx": "2.00 / -0.75 x 180"}), "right.rx"),
+    ("written rx axis without cylinder", case(left={"rx": "+2.00 x 90"}), "left.rx"),
     ("written rx nonsense", case(right={"rx": "minus two"}), "right.rx"),
     ("written rx and sphere both", case(right={"rx": "-2.00 DS", "sphere": -2}), "right.rx"),
     ("written rx too long", case(right={"rx": "+" * 500}), "right.rx"),

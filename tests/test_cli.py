@@ -6,7 +6,7 @@ import json
 from pathlib import Path
 
 import pytest
-from conftest import ROOT, run_cli
+from cli_runner import ROOT, run_cli
 
 MINIMUM = {
     # The minimum input of shared/case-format.md.

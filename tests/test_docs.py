@@ -2,10 +2,8 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
-from conftest import ROOT
+from cli_runner import ROOT
 
 SHARED = ROOT.parent / "shared" / "case-format.md"
 

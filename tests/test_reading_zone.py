@@ -19,7 +19,7 @@ from pycore.reading_point import reading_geometry
 
 FITTING = {"right": {"mono_pd_mm": 32}, "left": {"mono_pd_mm": 32}}
 
-DURHAM = {
+DURHAM: dict[str, Any] = {
     # Durham Technical Community College opticianry handout on bifocal prism: OD +5.00 add
     # +3.00, OS +2.00 add +1.00, R22 segments with tops 3 mm below the distance OCs,
     # reading 8 mm below the distance OCs (5 mm below the tops): net 1.2 BU before the right.

@@ -12,7 +12,7 @@ import pytest
 from pycore.cases import read_case
 from pycore.decentration import decentration_per_eye_mm, frame_pd_mm, minimum_blank_mm
 from pycore.evaluate import evaluate
-from pycore.fitting import Fitting, EyeFitting, near_inset_mm
+from pycore.fitting import EyeFitting, Fitting, near_inset_mm
 from pycore.gaze import LensPoint
 from pycore.lens import Lens
 from pycore.power import Prescription

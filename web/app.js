@@ -30,6 +30,7 @@ let firstResultShown = false;
 
 // ---------------------------------------------------------------- engine status
 messenger.ready.then((msg) => {
+  self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
   engineLine.dataset.state = "ready";
   engineLine.textContent = "Calculator ready" + (msg.version ? " · core " + msg.version.version : "");
 }, () => {});
@@ -117,6 +118,7 @@ function showResult(doc, result) {
   renderTransposed($("#transposed"), result);
   renderCautions($("#cautions"), result);
   renderPrintSummary($("#print-summary"), doc, result);
+  $("#print-summary").dataset.stale = "false";
   results.dataset.status = "current";
   results.dataset.seq = String(Number(results.dataset.seq || 0) + 1);
   statusLine.textContent = `Up to date · ${result.points.length} point${result.points.length === 1 ? "" : "s"} of gaze`;
@@ -158,6 +160,7 @@ function showError(error, inputs) {
     marked.push(input);
   }
   results.dataset.status = lastGood ? "stale" : "error";
+  $("#print-summary").dataset.stale = lastGood ? "true" : "false";
   const lead = lastGood ? "Out of date – the figures below are for the last valid input. " : "";
   statusLine.replaceChildren(el("span", { class: "problem" }, lead,
     el("strong", { text: words + ": " }), error.message));
@@ -296,7 +299,7 @@ window.addEventListener("hashchange", () => {
 
 // ---------------------------------------------------------------- offline and updates
 const notices = $("#notices");
-function notice(text, action) {
+function notice(text, action, { quietMs = 0 } = {}) {
   const box = el("div", { class: "notice" }, el("p", { text }));
   if (action) {
     const button = el("button", { type: "button", class: "primary", text: action.label });
@@ -307,6 +310,7 @@ function notice(text, action) {
   close.addEventListener("click", () => box.remove());
   box.append(close);
   notices.append(box);
+  if (quietMs) setTimeout(() => box.remove(), quietMs);
   return box;
 }
 
@@ -318,7 +322,9 @@ function afterFirstResult() {
     const waiting = () => notice("A new version of Prism Desk is ready.", {
       label: "Reload to update",
       run: () => {
+        updateRequested = true;
         if (reg.waiting) reg.waiting.postMessage({ type: "skip-waiting" });
+        else location.reload();
       },
     });
     if (reg.waiting && hadController) waiting();
@@ -328,15 +334,18 @@ function afterFirstResult() {
         if (worker.state === "installed" && navigator.serviceWorker.controller) waiting();
         if (worker.state === "activated" && !hadController) {
           document.body.dataset.offline = "ready";
-          notice("Prism Desk now works offline on this device.");
+          notice("Prism Desk now works offline on this device.", null, { quietMs: 8000 });
         }
       });
     });
     if (reg.active && hadController) document.body.dataset.offline = "ready";
   }, (err) => console.warn("service worker not registered:", err && err.message));
+  // Reload only when the user asked for the update (the first install also
+  // changes the controller, and must not reload the page).
+  let updateRequested = false;
   let reloading = false;
   navigator.serviceWorker.addEventListener("controllerchange", () => {
-    if (hadController && !reloading) {
+    if (updateRequested && !reloading) {
       reloading = true;
       location.reload();
     }

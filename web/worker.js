@@ -21,11 +21,11 @@ async function start() {
     if (!r.ok) throw failure("fetch", "The engine's package list could not be loaded (" + r.status + ").");
     return r.text();
   });
-  const { loadPyodide } = await import("./pyodide/pyodide.mjs");
+  const [{ loadPyodide }, lockText] = await Promise.all([import("./pyodide/pyodide.mjs"), lock]);
   timings.script = performance.now() - t0;
   const pyodide = await loadPyodide({
     indexURL: here("./pyodide/"),
-    lockFileContents: lock,
+    lockFileContents: lockText,
     packageBaseUrl: here("./wheels/"),
     packages: ["prism-desk"],
     stdout: () => {},

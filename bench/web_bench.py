@@ -1,0 +1,250 @@
+#!/usr/bin/env python3
+"""Start-up and recompute speed of the web app in headless Chromium (not a test).
+
+    .venv/bin/python bench/web_bench.py [--runs N] [--edits N] [--no-write]
+
+Measures, with one server on 127.0.0.1 (build.py's) and one Chromium:
+  * bare Pyodide: navigation start to ``1+1`` on a tiny page (cold profile, then warm);
+  * this app: navigation start to the first computed result shown (first visit
+    with a cold profile, then repeat visits served by the service worker);
+  * p95 of a full recompute after an edit (request sent to figures drawn; the
+    150 ms typing debounce comes on top and is not counted);
+  * the app's own asset size (dist/ without the Pyodide runtime files).
+Appends the figures to bench/results-web.md.
+"""
+
+from __future__ import annotations
+
+import argparse
+import datetime
+import json
+import os
+import platform
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import threading
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "tests" / "e2e"))
+
+from e2e_support import CASES, case_fragment  # noqa: E402
+from playwright.sync_api import sync_playwright  # noqa: E402
+
+import build  # noqa: E402
+
+CHROMIUM = os.environ.get("PRISM_DESK_CHROMIUM", "/usr/bin/chromium")
+ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
+        "--disable-component-update", "--disable-sync"]
+BARE = "bench-bare"
+GOALS = {"repeat": 1.0, "cold": 1.2, "recompute_p95_ms": 30.0, "own_kb": 300.0}
+
+BARE_HTML = """<!doctype html><meta charset="utf-8"><title>bare Pyodide</title>
+<script type="module" src="bare.js"></script>
+"""
+BARE_JS = """import { loadPyodide } from "../pyodide/pyodide.mjs";
+const pyodide = await loadPyodide({ indexURL: new URL("../pyodide/", import.meta.url).href });
+const two = pyodide.runPython("1+1");
+window.benchDone = { ms: performance.now(), two };
+"""
+
+
+def write_bare_page() -> None:
+    """A bare page beside the app (not in the app's precache list), using the stock lock file."""
+    folder = build.DIST / BARE
+    folder.mkdir(exist_ok=True)
+    (folder / "index.html").write_text(BARE_HTML)
+    (folder / "bare.js").write_text(BARE_JS)
+    shutil.copyfile(build.PYODIDE / "pyodide-lock.json", build.DIST / "pyodide" / "pyodide-lock.json")
+
+
+def remove_bare_page() -> None:
+    shutil.rmtree(build.DIST / BARE, ignore_errors=True)
+    (build.DIST / "pyodide" / "pyodide-lock.json").unlink(missing_ok=True)
+
+
+def percentile(values: list[float], p: float) -> float:
+    ordered = sorted(values)
+    k = (len(ordered) - 1) * p
+    lo, hi = int(k), min(int(k) + 1, len(ordered) - 1)
+    return ordered[lo] + (ordered[hi] - ordered[lo]) * (k - lo)
+
+
+class Bench:
+    def __init__(self, playwright, base: str) -> None:
+        self.pw = playwright
+        self.base = base
+        self.profiles: list[str] = []
+
+    def profile(self):
+        folder = tempfile.mkdtemp(prefix="prism-bench-")
+        self.profiles.append(folder)
+        return self.pw.chromium.launch_persistent_context(
+            folder, executable_path=CHROMIUM, args=ARGS, headless=True,
+            viewport={"width": 1024, "height": 768})
+
+    def close(self) -> None:
+        for folder in self.profiles:
+            shutil.rmtree(folder, ignore_errors=True)
+
+    @staticmethod
+    def visit(ctx, url: str, done: str, value: str) -> float:
+        for old in list(ctx.pages):
+            old.close()
+        page = ctx.new_page()
+        page.goto(url)
+        page.wait_for_function(done, timeout=120_000)
+        ms = float(page.evaluate(value))
+        return ms
+
+    def bare(self, runs: int) -> tuple[list[float], list[float]]:
+        cold, warm = [], []
+        url = self.base + BARE + "/"
+        for _ in range(runs):
+            ctx = self.profile()
+            cold.append(self.visit(ctx, url, "() => window.benchDone", "window.benchDone.ms"))
+            for _ in range(2):
+                warm.append(self.visit(ctx, url, "() => window.benchDone", "window.benchDone.ms"))
+            ctx.close()
+        return cold, warm
+
+    def app(self, runs: int, edits: int) -> dict[str, list[float]]:
+        done = "() => performance.getEntriesByName('pd:first-result').length > 0"
+        value = "performance.getEntriesByName('pd:first-result')[0].startTime"
+        out: dict[str, list[float]] = {"cold": [], "repeat": [], "recompute": [], "engine": []}
+        url = self.base + case_fragment(CASES["oblique-progressive"])
+        for run in range(runs):
+            ctx = self.profile()
+            out["cold"].append(self.visit(ctx, url, done, value))
+            page = ctx.pages[0]
+            page.wait_for_function("() => navigator.serviceWorker.controller !== null", timeout=120_000)
+            page.wait_for_selector("body[data-offline=ready]", timeout=120_000)
+            for _ in range(2):
+                out["repeat"].append(self.visit(ctx, url, done, value))
+                page = ctx.pages[0]
+                assert page.evaluate("() => navigator.serviceWorker.controller !== null")
+            timing = page.evaluate("() => window.prismEngineTimings || null")
+            if timing:
+                out["engine"].append(timing)
+            if run == 0:
+                out["recompute"] = self.recompute(page, edits)
+            ctx.close()
+        return out
+
+    @staticmethod
+    def recompute(page, edits: int) -> list[float]:
+        page.evaluate("() => performance.clearMeasures('pd:recompute')")
+        values = ["-3.25", "-3.5", "-4", "+1.25", "2", "-0.75"]
+        for i in range(edits):
+            seq = page.evaluate("() => Number(document.querySelector('#results').dataset.seq)")
+            page.fill("#right-sphere", values[i % len(values)])
+            page.wait_for_function(
+                "(seq) => Number(document.querySelector('#results').dataset.seq) > seq "
+                "&& document.querySelector('#results').dataset.status === 'current'", arg=seq)
+        return page.evaluate(
+            "() => performance.getEntriesByName('pd:recompute').map(e => e.duration)")[-edits:]
+
+
+def own_asset_bytes() -> int:
+    runtime = {f"pyodide/{name}" for name in build.RUNTIME}
+    return sum(p.stat().st_size for p in build.DIST.rglob("*")
+               if p.is_file() and p.relative_to(build.DIST).as_posix() not in runtime
+               and not p.relative_to(build.DIST).as_posix().startswith(BARE))
+
+
+def chromium_version() -> str:
+    try:
+        out = subprocess.run([CHROMIUM, "--version"], capture_output=True, text=True, timeout=20)
+        return out.stdout.strip()
+    except OSError:
+        return "unknown"
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--runs", type=int, default=3, help="fresh profiles per measurement")
+    parser.add_argument("--edits", type=int, default=60, help="edits for the recompute figure")
+    parser.add_argument("--no-write", action="store_true", help="print only")
+    args = parser.parse_args()
+
+    if build.needs_build():
+        build.build()
+    write_bare_page()
+    server = build.make_server(build.DIST, 0, quiet=True)
+    threading.Thread(target=server.serve_forever, daemon=True).start()
+    base = f"http://127.0.0.1:{server.server_address[1]}/"
+    try:
+        with sync_playwright() as pw:
+            bench = Bench(pw, base)
+            try:
+                bare_cold, bare_warm = bench.bare(args.runs)
+                app = bench.app(args.runs, args.edits)
+            finally:
+                bench.close()
+    finally:
+        server.shutdown()
+        remove_bare_page()
+
+    med = statistics.median
+    figures = {
+        "bare_cold_ms": med(bare_cold), "bare_warm_ms": med(bare_warm),
+        "app_cold_ms": med(app["cold"]), "app_repeat_ms": med(app["repeat"]),
+        "recompute_p50_ms": percentile(app["recompute"], 0.5),
+        "recompute_p95_ms": percentile(app["recompute"], 0.95),
+        "own_kb": own_asset_bytes() / 1024,
+    }
+    ratios = {"cold": figures["app_cold_ms"] / figures["bare_cold_ms"],
+              "repeat": figures["app_repeat_ms"] / figures["bare_warm_ms"]}
+    verdict = {
+        "repeat": ratios["repeat"] <= GOALS["repeat"],
+        "cold": ratios["cold"] <= GOALS["cold"],
+        "recompute_p95_ms": figures["recompute_p95_ms"] <= GOALS["recompute_p95_ms"],
+        "own_kb": figures["own_kb"] <= GOALS["own_kb"],
+    }
+    ok = lambda key: "meets" if verdict[key] else "MISSES"  # noqa: E731
+    engine = app["engine"][-1] if app["engine"] else {}
+    lines = [
+        f"## {datetime.datetime.now().isoformat(timespec='minutes')}",
+        "",
+        f"Machine: {platform.machine()}, {os.cpu_count()} CPUs; {chromium_version()}; "
+        f"{args.runs} fresh profiles, medians; {len(app['recompute'])} edits.",
+        "",
+        "| figure | value | goal |",
+        "| --- | --- | --- |",
+        f"| bare Pyodide to `1+1`, cold | {figures['bare_cold_ms']:.0f} ms | |",
+        f"| bare Pyodide to `1+1`, warm cache | {figures['bare_warm_ms']:.0f} ms | |",
+        f"| app first result, first visit (cold) | {figures['app_cold_ms']:.0f} ms "
+        f"({ratios['cold']:.2f}x bare cold) | <= {GOALS['cold']}x: {ok('cold')} |",
+        f"| app first result, repeat visit | {figures['app_repeat_ms']:.0f} ms "
+        f"({ratios['repeat']:.2f}x bare warm) | <= {GOALS['repeat']}x: {ok('repeat')} |",
+        f"| recompute after an edit, p50 / p95 | {figures['recompute_p50_ms']:.1f} / "
+        f"{figures['recompute_p95_ms']:.1f} ms | p95 <= {GOALS['recompute_p95_ms']:.0f} ms: "
+        f"{ok('recompute_p95_ms')} |",
+        f"| own assets (dist/ without the Pyodide runtime) | {figures['own_kb']:.0f} KB | "
+        f"<= {GOALS['own_kb']:.0f} KB: {ok('own_kb')} |",
+        "",
+        "Samples (ms): bare cold " + ", ".join(f"{v:.0f}" for v in bare_cold)
+        + "; bare warm " + ", ".join(f"{v:.0f}" for v in bare_warm)
+        + "; app cold " + ", ".join(f"{v:.0f}" for v in app["cold"])
+        + "; app repeat " + ", ".join(f"{v:.0f}" for v in app["repeat"]) + ".",
+    ]
+    if engine:
+        lines += ["", "Worker timings on the last repeat visit (ms since the worker started): "
+                  + json.dumps({k: round(v) for k, v in engine.items()}) + "."]
+    text = "\n".join(lines) + "\n"
+    print(text)
+    if not args.no_write:
+        results = ROOT / "bench" / "results-web.md"
+        if not results.exists():
+            results.write_text("# Web app speed\n\nAppended by `bench/web_bench.py`; newest last.\n\n")
+        with results.open("a") as handle:
+            handle.write(text + "\n")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
