@@ -26,3 +26,29 @@ def run_cli(*args: str, stdin: str | bytes | None = None) -> CliRun:
     proc = subprocess.run([sys.executable, "-m", "pycore", *args], input=data,
                           capture_output=True, cwd=ROOT, timeout=60)
     return CliRun(proc.returncode, proc.stdout.decode(), proc.stderr.decode())
+
+
+def check_refusal_in_process(command: str, name: str, document: Any, field: str,
+                             reader: Any, capsys: Any, monkeypatch: Any) -> None:
+    """Run ``python -m pycore COMMAND -`` in this process on ``document`` and check the
+    refusal: exit 2, nothing on standard output, one sentence naming ``field``; then
+    check that ``reader`` (the command's document reader) refuses the same field."""
+    import copy
+    import io
+
+    import pytest
+
+    from pycore.cli import main
+    from pycore.errors import CaseError
+
+    text = document if isinstance(document, str) else json.dumps(document)
+    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(text.encode())))
+    code = main([command, "-"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == "", name
+    assert "Traceback" not in err and err.count("\n") == 1
+    assert field in err, (name, err)
+    if isinstance(document, dict):
+        with pytest.raises(CaseError) as caught:
+            reader(copy.deepcopy(document))
+        assert caught.value.field.startswith(field), (name, caught.value.field)

@@ -8,20 +8,18 @@ caution: Thompson & Guyton, Ophthalmology 1983.
 from __future__ import annotations
 
 import copy
-import io
 import json
-import sys
 from typing import Any
 
 import numpy as np
 import pytest
+from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import pycore.extensions  # noqa: F401
 from pycore.cli import main
 from pycore.deviation import deviation_at_eye, read_deviation, through_spectacles
-from pycore.errors import CaseError
 from pycore.eyes import Eye
 from pycore.power import Prescription
 from pycore.prism import Prism
@@ -174,17 +172,8 @@ CATALOGUE: list[tuple[str, Any, str]] = [
 def test_bad_input_catalogue(name: str, document: Any, field: str,
                              capsys: pytest.CaptureFixture[str],
                              monkeypatch: pytest.MonkeyPatch) -> None:
-    text = document if isinstance(document, str) else json.dumps(document)
-    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(text.encode())))
-    code = main(["deviation", "-"])
-    out, err = capsys.readouterr()
-    assert code == 2 and out == "", name
-    assert "Traceback" not in err and err.count("\n") == 1
-    assert field in err, (name, err)
-    if isinstance(document, dict):
-        with pytest.raises(CaseError) as caught:
-            read_deviation(copy.deepcopy(document))
-        assert caught.value.field.startswith(field), (name, caught.value.field)
+    check_refusal_in_process("deviation", name, document, field, read_deviation, capsys,
+                             monkeypatch)
 
 
 def test_cli_text(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:

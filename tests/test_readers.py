@@ -9,12 +9,11 @@ out or in, 0.5 vertical). The demo stock is invented.
 from __future__ import annotations
 
 import copy
-import io
 import json
-import sys
 from typing import Any
 
 import pytest
+from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -306,17 +305,8 @@ CATALOGUE: list[tuple[str, Any, str]] = [
 def test_bad_input_catalogue(name: str, document: Any, field: str,
                              capsys: pytest.CaptureFixture[str],
                              monkeypatch: pytest.MonkeyPatch) -> None:
-    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(
-        json.dumps(document).encode())))
-    code = main(["readers", "-"])
-    out, err = capsys.readouterr()
-    assert code == 2 and out == "", name
-    assert "Traceback" not in err and err.count("\n") == 1
-    assert field in err, (name, err)
-    if isinstance(document, dict):
-        with pytest.raises(CaseError) as caught:
-            readers_request(copy.deepcopy(document))
-        assert caught.value.field.startswith(field), (name, caught.value.field)
+    check_refusal_in_process("readers", name, document, field, readers_request, capsys,
+                             monkeypatch)
 
 
 def test_cli_with_stock_csv(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:

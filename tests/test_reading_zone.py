@@ -7,6 +7,7 @@ import copy
 from typing import Any
 
 import pytest
+from casebook import DURHAM_BIFOCAL, FITTING
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -17,19 +18,8 @@ from pycore.gaze import GazePoint, LensPoint
 from pycore.reading_options import DEFAULT_THRESHOLD
 from pycore.reading_point import reading_geometry
 
-FITTING = {"right": {"mono_pd_mm": 32}, "left": {"mono_pd_mm": 32}}
+DURHAM = DURHAM_BIFOCAL
 
-DURHAM: dict[str, Any] = {
-    # Durham Technical Community College opticianry handout on bifocal prism: OD +5.00 add
-    # +3.00, OS +2.00 add +1.00, R22 segments with tops 3 mm below the distance OCs,
-    # reading 8 mm below the distance OCs (5 mm below the tops): net 1.2 BU before the right.
-    "right": {"sphere": 5.0, "add": 3.0,
-              "segment": {"top_mm": -3, "shape": "round", "diameter_mm": 22}},
-    "left": {"sphere": 2.0, "add": 1.0,
-             "segment": {"top_mm": -3, "shape": "round", "diameter_mm": 22}},
-    "fitting": FITTING,
-    "reading_zone": {"reading_point": "segment_top", "below_segment_top_mm": 5},
-}
 
 
 def zone_of(document: dict[str, Any]) -> dict[str, Any]:

@@ -8,6 +8,7 @@ import json
 from typing import Any
 
 import pytest
+from casebook import DURHAM_BIFOCAL, FITTING
 from cli_runner import run_cli
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -19,19 +20,8 @@ from pycore.evaluate import evaluate
 from pycore.remedies import ORDER
 from pycore.remedy_cases import round_to_step
 
-FITTING = {"right": {"mono_pd_mm": 32}, "left": {"mono_pd_mm": 32}}
+DURHAM = DURHAM_BIFOCAL
 
-DURHAM: dict[str, Any] = {
-    # Durham Technical Community College opticianry handout on bifocal prism: OD +5.00 add
-    # +3.00, OS +2.00 add +1.00, R22 segments 3 mm below the distance OCs, reading 8 mm
-    # below them: net 1.2 base up before the right eye.
-    "right": {"sphere": 5.0, "add": 3.0,
-              "segment": {"top_mm": -3, "shape": "round", "diameter_mm": 22}},
-    "left": {"sphere": 2.0, "add": 1.0,
-             "segment": {"top_mm": -3, "shape": "round", "diameter_mm": 22}},
-    "fitting": FITTING,
-    "reading_zone": {"reading_point": "segment_top", "below_segment_top_mm": 5},
-}
 
 
 def remedies_of(document: dict[str, Any]) -> dict[str, dict[str, Any]]:

@@ -14,6 +14,7 @@ import json
 from typing import Any
 
 import pytest
+from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -21,7 +22,6 @@ import pycore.extensions  # noqa: F401  (registers the verification section)
 from pycore.cases import read_case
 from pycore.cli import main
 from pycore.datafiles import data_names, load_table
-from pycore.errors import CaseError
 from pycore.evaluate import evaluate
 from pycore.tolerances import CERTAINTIES, tolerance_tables
 from pycore.verification import verify
@@ -345,21 +345,8 @@ CATALOGUE: list[tuple[str, Any, str]] = [
 def test_bad_input_catalogue(name: str, document: Any, field: str,
                              capsys: pytest.CaptureFixture[str],
                              monkeypatch: pytest.MonkeyPatch) -> None:
-    text = document if isinstance(document, str) else json.dumps(document)
-    import io
-    import sys
-
-    monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(text.encode())))
-    code = main(["verify", "-"])
-    out, err = capsys.readouterr()
-    assert code == 2, name
-    assert out == ""
-    assert "Traceback" not in err and err.count("\n") == 1
-    assert field in err, (name, err)
-    if isinstance(document, dict):
-        with pytest.raises(CaseError) as caught:
-            read_verification(copy.deepcopy(document))
-        assert caught.value.field.startswith(field), (name, caught.value.field)
+    check_refusal_in_process("verify", name, document, field, read_verification, capsys,
+                             monkeypatch)
 
 
 def test_cli_text_and_list(capsys: pytest.CaptureFixture[str], tmp_path: Any) -> None:
