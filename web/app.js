@@ -4,6 +4,7 @@ import { Messenger } from "./messenger.js";
 import { CaseForm, pathInWords } from "./form.js";
 import { el, renderCautions, renderPrintSummary, renderResult, renderTransposed } from "./results.js";
 import * as store from "./store.js";
+import { setUpZone } from "./zone.js";
 
 const DEBOUNCE_MS = 150;
 const $ = (selector) => document.querySelector(selector);
@@ -14,23 +15,36 @@ const results = $("#results");
 const statusLine = $("#result-status");
 const body = $("#result-body");
 
-const messenger = new Messenger(boot.worker, {
+// Shared with other screens (they import these from this module).
+export const messenger = new Messenger(boot.worker, {
   early: boot.early,
   earlyError: boot.error,
   onEvent: (msg) => {
     if (msg.event === "failed") engineFailed(msg.error);
+    if (msg.event === "timings") self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
   },
 });
 
 const caseForm = new CaseForm($("#case-form"), $("#point-row"));
+// Lens designs, reading zone and remedies (zone.js): a part of the form and of the results.
+const zone = setUpZone({ caseForm, loadCase: (doc, message) => loadCase(doc, message), say: (text) => say(text),
+  form: $("#case-form"), results, statusLine, body });
 let lastGood = null; // {doc, result}
 let marked = []; // inputs marked invalid
 const touched = new Set(); // inputs the user has edited
 let firstResultShown = false;
+let printPending = false;
+
+function drawPrintSummary() {
+  if (printPending && lastGood) renderPrintSummary($("#print-summary"), lastGood.doc, lastGood.result);
+  printPending = false;
+}
+window.addEventListener("beforeprint", drawPrintSummary);
 
 // ---------------------------------------------------------------- engine status
 messenger.ready.then((msg) => {
   self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
+  document.body.dataset.engineStart = msg.start || "boot";
   engineLine.dataset.state = "ready";
   engineLine.textContent = "Calculator ready" + (msg.version ? " · core " + msg.version.version : "");
 }, () => {});
@@ -57,16 +71,19 @@ function engineFailed(error) {
 
 // ---------------------------------------------------------------- recompute
 let timer = 0;
+let timerPending = false;
 let inFlight = false;
 let again = false;
 
 function schedule(delay = DEBOUNCE_MS) {
   clearTimeout(timer);
   if (messenger.state !== "failed") results.dataset.status = "pending";
+  timerPending = true;
   timer = setTimeout(recompute, delay);
 }
 
 async function recompute() {
+  timerPending = false;
   if (inFlight) {
     again = true; // only the newest form state is rendered
     return;
@@ -76,19 +93,21 @@ async function recompute() {
   inFlight = true;
   const started = performance.now();
   const reply = await messenger.request("evaluate", doc);
+  performance.measure("pd:answer", { start: started, end: performance.now() });
   inFlight = false;
   if (again) {
     again = false;
     recompute();
     return;
   }
+  if (timerPending) return; // newer input is on its way: draw only its answer
   if (reply.ok) {
     showResult(doc, reply.result);
     performance.measure("pd:recompute", { start: started, end: performance.now() });
     if (!firstResultShown) {
       firstResultShown = true;
       performance.mark("pd:first-result");
-      afterFirstResult();
+      offerOffline();
     }
   } else if (messenger.state !== "failed") {
     showError(reply.error, inputs);
@@ -117,7 +136,8 @@ function showResult(doc, result) {
   renderResult(body, result);
   renderTransposed($("#transposed"), result);
   renderCautions($("#cautions"), result);
-  renderPrintSummary($("#print-summary"), doc, result);
+  zone.render(result);
+  printPending = true; // the print summary is drawn when printing starts
   $("#print-summary").dataset.stale = "false";
   results.dataset.status = "current";
   results.dataset.seq = String(Number(results.dataset.seq || 0) + 1);
@@ -218,7 +238,18 @@ function loadCase(doc, source) {
   }
   const extrasNote = $("#extras");
   extrasNote.hidden = kept.length === 0;
-  extrasNote.textContent = kept.length ? "Also in this case, kept as given: " + kept.join(", ") + "." : "";
+  extrasNote.replaceChildren();
+  if (kept.length) {
+    const drop = el("button", { type: "button", class: "secondary", text: "Leave these out" });
+    drop.addEventListener("click", () => {
+      caseForm.extras = {};
+      extrasNote.hidden = true;
+      say("Left out the parts this form does not show.");
+      schedule(0);
+    });
+    extrasNote.append(el("span", { text: "Also in this case, kept as given (this form does not edit them): " +
+      kept.join(", ") + ". " }), drop);
+  }
   lastGood = null;
   if (source) say(source);
   schedule(0);
@@ -281,11 +312,19 @@ $("#import-file").addEventListener("change", async (e) => {
     say(`Not imported: ${file.name} is not a JSON case file. The current case is unchanged.`);
     return;
   }
-  // The core checks the case; refusals are then shown at the field concerned.
+  // The core checks the case. A refusal of the document as a whole leaves the
+  // current case alone; one naming a field is shown at that field.
   const reply = await messenger.request("evaluate", doc);
+  if (!reply.ok && !reply.error.field) {
+    say(`Not imported: ${file.name}: ${reply.error.message} The current case is unchanged.`);
+    return;
+  }
   loadCase(doc, reply.ok ? `Imported ${file.name}.` : `Imported ${file.name}; it needs a correction (marked below).`);
 });
-$("#print-case").addEventListener("click", () => window.print());
+$("#print-case").addEventListener("click", () => {
+  drawPrintSummary();
+  window.print();
+});
 
 function fileName(name) {
   const stem = (name || "case").replace(/[^\p{L}\p{N}._ -]+/gu, "").trim().replace(/\s+/g, "-") || "case";
@@ -314,9 +353,12 @@ function notice(text, action, { quietMs = 0 } = {}) {
   return box;
 }
 
-function afterFirstResult() {
-  if (!("serviceWorker" in navigator)) return;
-  // Registered after the first result, so installing never competes with it.
+// Registers the service worker once, after a first result, so that installing
+// never competes with it. Safe to call again (later calls do nothing).
+let offlineOffered = false;
+export function offerOffline() {
+  if (offlineOffered || !("serviceWorker" in navigator)) return;
+  offlineOffered = true;
   const hadController = Boolean(navigator.serviceWorker.controller);
   navigator.serviceWorker.register("./sw.js", { scope: "./", updateViaCache: "none" }).then((reg) => {
     const waiting = () => notice("A new version of Prism Desk is ready.", {

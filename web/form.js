@@ -48,6 +48,9 @@ export class CaseForm {
     this.template = template;
     this.list = form.querySelector("#custom-points");
     this.extras = {};
+    // Further parts of the form (zone-form.js): fill(doc, extras) takes their keys
+    // out of extras; collect(doc, inputs) writes them back and maps their inputs.
+    this.parts = [];
     this.byPath = new Map();
     for (const input of document.querySelectorAll("[data-path]")) this.byPath.set(input.dataset.path, input);
     this.syncWritten();
@@ -172,6 +175,7 @@ export class CaseForm {
       points.push(point);
     }
     doc.points = points;
+    for (const part of this.parts) part.collect(doc, inputs);
     mergeExtras(doc, this.extras);
     return { doc, inputs };
   }
@@ -214,6 +218,7 @@ export class CaseForm {
     for (const [key, value] of Object.entries(doc)) {
       if (!["name", "right", "left", "fitting", "frame", "points"].includes(key)) extras[key] = value;
     }
+    for (const part of this.parts) part.fill(doc, extras);
     this.extras = extras;
     this.syncWritten();
     return extras;
@@ -230,7 +235,13 @@ function mergeExtras(doc, extras) {
   }
 }
 
-// Words for a case path, for messages next to the field.
+// Words for a case path, for messages next to the field. Other parts of the
+// form add words for their own keys with addPathWords.
+const extraWords = {};
+export function addPathWords(words) {
+  Object.assign(extraWords, words);
+}
+
 export function pathInWords(path) {
   const words = {
     right: "Right", left: "Left", sphere: "sphere", cylinder: "cylinder", axis: "axis", add: "add",
@@ -239,7 +250,7 @@ export function pathInWords(path) {
     working_distance_mm: "working distance", centre_of_rotation_mm: "lens to centre of rotation",
     reading_depth_mm: "reading depth", frame: "Frame", a_mm: "box width A", dbl_mm: "bridge DBL",
     ed_mm: "effective diameter ED", b_mm: "box depth B", points: "Point of gaze",
-    in_mm: "in", up_mm: "up", name: "name",
+    in_mm: "in", up_mm: "up", name: "name", ...extraWords,
   };
   const parts = path.split(".").filter((p) => p !== "");
   if (parts[0] === "points" && parts.length > 1) {

@@ -198,7 +198,8 @@ function genericBlock(result, key) {
   return details;
 }
 
-const KNOWN = new Set(["points", "eyes", "fitting", "frame", "cautions"]);
+// reading_zone and remedies are drawn by zone.js.
+const KNOWN = new Set(["points", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
 
 export function renderResult(container, result) {
   // Sections the user opened stay open across recomputes.
@@ -259,6 +260,8 @@ export function renderPrintSummary(node, doc, result) {
   });
   node.replaceChildren(
     el("h1", { text: "Prism Desk – case summary" }),
+    el("p", { class: "our-caution", text: "A check aid: verify every figure by measurement and against the standards " +
+      "in force where you work. Clinical decisions belong to licensed practitioners." }),
     el("p", { text: (doc.name ? doc.name + " · " : "") + "Printed " + new Date().toLocaleString() }),
     el("table", { class: "print-inputs" }, el("tbody", {}, ...rows)),
     el("table", { class: "print-results" },

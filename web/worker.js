@@ -1,46 +1,131 @@
 // Module worker that owns the Python runtime and the calculation core.
 // Requests: {id, action, payload}; one reply each: {id, ok, result | error}.
-// Events (no id): {event: "ready", version, timings} or {event: "failed", error}.
+// Events (no id): {event: "ready", version, timings, start} or {event: "failed", error}.
 // See docs/worker-protocol.md.
+//
+// Start-up: the runtime, the lock file and the core's wheel are fetched in
+// parallel; the wheel is hash checked (its sha256 from the lock file) and
+// unpacked into site-packages. After the first answer, an image of the warmed
+// interpreter's memory is kept in Cache Storage, so later visits restore it
+// instead of booting Python and importing the core again. Any trouble with that
+// image falls back to the ordinary start.
 
 const t0 = performance.now();
 const timings = {};
+const mark = (name) => { timings[name] = Math.round(performance.now() - t0); };
 const here = (path) => new URL(path, import.meta.url).href;
+const SNAPSHOT_CACHE = "pd-interpreter-image";
+const SNAPSHOT_FORMAT = 1;
 
 function failure(code, message) {
   return { field: "", code, message };
 }
 
-async function start() {
+function hexToBase64(hex) {
+  let binary = "";
+  for (let i = 0; i < hex.length; i += 2) binary += String.fromCharCode(parseInt(hex.slice(i, i + 2), 16));
+  return btoa(binary);
+}
+
+async function fetchOk(url, options, what) {
+  let response;
+  try {
+    response = await fetch(url, options);
+  } catch (err) {
+    throw failure("fetch", `${what} could not be loaded (${err.message}). ` +
+      "If you are offline, open the app once while online so that it can be kept on this device.");
+  }
+  if (!response.ok) throw failure("fetch", `${what} could not be loaded (HTTP ${response.status}).`);
+  return response;
+}
+
+async function openImages() {
+  try {
+    return await caches.open(SNAPSHOT_CACHE);
+  } catch {
+    return null; // Cache Storage unavailable (private mode, old browser): no images
+  }
+}
+
+async function start(useImage = true) {
   if (typeof WebAssembly !== "object" || typeof WebAssembly.instantiate !== "function") {
     throw failure("no-wasm", "This browser has WebAssembly turned off or does not support it.");
   }
-  // Fetch the small lock file alongside the runtime; Pyodide loads the wheel it
-  // lists (hash checked) while the interpreter boots.
-  const lock = fetch(here("./pyodide-lock.json")).then((r) => {
-    if (!r.ok) throw failure("fetch", "The engine's package list could not be loaded (" + r.status + ").");
-    return r.text();
-  });
-  const [{ loadPyodide }, lockText] = await Promise.all([import("./pyodide/pyodide.mjs"), lock]);
-  timings.script = performance.now() - t0;
-  const pyodide = await loadPyodide({
+  const lock = fetchOk(here("./pyodide-lock.json"), {}, "The engine's package list").then((r) => r.json());
+  const entry = lock.then((l) => Object.values(l.packages)[0]);
+  const wheel = entry.then((e) => fetchOk(here("./wheels/" + e.file_name),
+    { integrity: "sha256-" + hexToBase64(e.sha256) }, "The calculation core").then((r) => r.arrayBuffer()));
+  const images = openImages();
+  const imageKey = entry.then((e) => here(`./__image/${SNAPSHOT_FORMAT}/${e.sha256}`));
+  const image = !useImage ? Promise.resolve(null) : Promise.all([images, imageKey]).then(async ([cache, key]) => {
+    const hit = cache && (await cache.match(key));
+    return hit ? new Uint8Array(await hit.arrayBuffer()) : null;
+  }).catch(() => null);
+  wheel.catch(() => {});
+
+  const [{ loadPyodide, version: runtimeVersion }, lockData, saved] =
+    await Promise.all([import("./pyodide/pyodide.mjs"), lock, image]);
+  mark("fetched");
+  const options = {
     indexURL: here("./pyodide/"),
-    lockFileContents: lockText,
+    lockFileContents: lockData,
     packageBaseUrl: here("./wheels/"),
-    packages: ["prism-desk"],
     stdout: () => {},
     stderr: (line) => console.warn("[python]", line),
-  });
-  timings.runtime = performance.now() - t0;
-  const bridge = pyodide.pyimport("pycore.bridge");
-  timings.core = performance.now() - t0;
-  return bridge.handle;
+  };
+  let pyodide = null;
+  let from = "boot";
+  if (saved) {
+    try {
+      pyodide = await loadPyodide({ ...options, _loadSnapshot: saved });
+      from = "image";
+    } catch (err) {
+      console.warn("saved interpreter image refused; starting afresh:", err && err.message);
+      (await images)?.delete(await imageKey);
+    }
+  }
+  if (!pyodide) pyodide = await loadPyodide({ ...options, _makeSnapshot: true });
+  mark("runtime");
+
+  // Unpack the (hash-checked) wheel into site-packages. After an image restore the
+  // modules are already in memory, but their files are needed for later imports.
+  let bridge;
+  try {
+    pyodide.FS.writeFile("/tmp/prism_desk.whl", new Uint8Array(await wheel));
+    pyodide.runPython("import site, zipfile\n" +
+      "with zipfile.ZipFile('/tmp/prism_desk.whl') as w: w.extractall(site.getsitepackages()[0])\n" +
+      "del site, zipfile, w");
+    pyodide.FS.unlink("/tmp/prism_desk.whl");
+    mark("unpacked");
+    bridge = pyodide.pyimport("pycore.bridge");
+  } catch (err) {
+    if (from !== "image") throw err;
+    console.warn("restored interpreter unusable; starting afresh:", err && err.message);
+    (await images)?.delete(await imageKey);
+    return start(false);
+  }
+  mark("core");
+
+  const keepImage = async () => {
+    if (from !== "boot") return;
+    try {
+      const cache = await images;
+      if (!cache) return;
+      const bytes = pyodide.makeMemorySnapshot();
+      const key = await imageKey;
+      for (const old of await cache.keys()) if (old.url !== key) await cache.delete(old);
+      await cache.put(key, new Response(bytes, { headers: { "X-Runtime": runtimeVersion } }));
+    } catch (err) {
+      console.warn("interpreter image not kept:", err && err.message);
+    }
+  };
+  return { handle: bridge.handle, from, keepImage };
 }
 
 const engine = start();
 
 engine.then(
-  (handle) => {
+  ({ handle, from }) => {
     let version = null;
     try {
       const reply = JSON.parse(handle(JSON.stringify({ action: "version", payload: {} })));
@@ -48,7 +133,8 @@ engine.then(
     } catch (err) {
       console.warn("version request failed", err);
     }
-    self.postMessage({ event: "ready", version, timings });
+    mark("ready");
+    self.postMessage({ event: "ready", version, timings, start: from });
   },
   (err) => {
     const error = err && err.code ? err : failure("start", String((err && err.message) || err));
@@ -56,19 +142,21 @@ engine.then(
   },
 );
 
+let imageQueued = false;
+
 self.addEventListener("message", async (e) => {
   const { id, action, payload } = e.data || {};
   if (typeof id !== "number" || typeof action !== "string") return;
-  let handle;
+  let core;
   try {
-    handle = await engine;
+    core = await engine;
   } catch (err) {
     self.postMessage({ id, ok: false, error: err && err.code ? err : failure("start", String(err)) });
     return;
   }
   let reply;
   try {
-    reply = JSON.parse(handle(JSON.stringify({ action, payload })));
+    reply = JSON.parse(core.handle(JSON.stringify({ action, payload })));
   } catch (err) {
     console.warn("core failure", err);
     reply = { ok: false, error: failure("internal", "The calculation stopped unexpectedly; the input was kept.") };
@@ -77,6 +165,15 @@ self.addEventListener("message", async (e) => {
     self.postMessage({ id, ok: true, result: reply.result });
   } else {
     const error = reply.error || {};
+    if (error.detail) console.warn("core detail:", error.detail);
     self.postMessage({ id, ok: false, error: { field: error.field || "", message: error.message || "Refused." } });
+  }
+  // Once the first full answer is out (and the core's lazy imports are done),
+  // keep an image of the warmed interpreter for the next visit.
+  if (!imageQueued && action === "evaluate" && reply.ok) {
+    imageQueued = true;
+    mark("first");
+    self.postMessage({ event: "timings", timings });
+    setTimeout(core.keepImage, 50);
   }
 });

@@ -64,7 +64,7 @@ def test_keyboard_only_use(site, page):
     assert page.evaluate("() => document.activeElement.dataset.field") == "name"
     page.keyboard.type("by keyboard")
     wait_result(page, after=seq)
-    assert page.locator(".point h3").all_text_contents()[-1] == "by keyboard"
+    page.wait_for_function("() => [...document.querySelectorAll('.point h3')].some(h => h.textContent === 'by keyboard')", timeout=10_000)
     page.focus("#custom-points li:last-child .remove")
     page.keyboard.press("Space")
     assert page.locator("#custom-points li").count() == 1
@@ -100,6 +100,7 @@ def test_screenshots(browser, site, width, height):
     wait_result(page, status="stale")
     page.locator("#right-axis").scroll_into_view_if_needed()
     page.screenshot(path=str(SCREENS / f"app-{width}x{height}-bad-input.png"))
+    page.evaluate("() => window.dispatchEvent(new Event('beforeprint'))")
     page.emulate_media(media="print")
     page.screenshot(path=str(SCREENS / f"app-{width}x{height}-print.png"), full_page=True)
     ctx.close()

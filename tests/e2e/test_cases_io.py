@@ -52,12 +52,13 @@ def test_import_refused_file_keeps_the_case(site, page, tmp_path):
 
 def test_imported_case_with_a_fault_is_shown_at_the_field(site, page, tmp_path):
     page.goto(site.url)
+    wait_result(page, status="error")                   # the empty form
     bad = dict(CASES["oblique-progressive"], left={"sphere": -1, "axis": 200})
     path = tmp_path / "bad.json"
     path.write_text(json.dumps(bad))
     page.set_input_files("#import-file", str(path))
-    wait_result(page, status="error")
-    assert page.get_attribute("#left-axis", "aria-invalid") == "true"
+    page.wait_for_selector("#left-axis[aria-invalid=true]")
+    assert page.get_attribute("#results", "data-status") == "error"
     assert "left.axis" in page.text_content("#left-axis-error")
 
 

@@ -32,7 +32,8 @@ def wait_offline_ready(page):
 
 
 def cache_names(page):
-    return sorted(page.evaluate("() => caches.keys()"))
+    """The service worker's caches (not the interpreter image the worker keeps)."""
+    return sorted(n for n in page.evaluate("() => caches.keys()") if n.startswith("prism-desk-"))
 
 
 def test_bookmark_computes_offline_after_first_visit(context, own_site, watch):
@@ -111,3 +112,84 @@ def test_engine_failure_is_explained_and_input_kept(context, site, watch):
     page.wait_for_function("() => location.hash.length > 10")
     page.wait_for_timeout(300)
     assert address_case(page)["right"]["sphere"] == 2.5
+
+
+IMAGE_KEYS = """async () => {
+    if (!(await caches.has('pd-interpreter-image'))) return [];
+    const cache = await caches.open('pd-interpreter-image');
+    return (await cache.keys()).map((r) => r.url);
+}"""
+
+
+def wait_image(page, check="true", seconds=30):
+    """The key of the one interpreter image, once it is there (and `check` holds for it)."""
+    for _ in range(seconds * 10):
+        keys = page.evaluate(IMAGE_KEYS)
+        if len(keys) == 1 and page.evaluate(f"""async (key) => {{
+                const response = await (await caches.open('pd-interpreter-image')).match(key);
+                const size = response ? (await response.arrayBuffer()).byteLength : 0;
+                return {check};
+            }}""", keys[0]):
+            return keys[0]
+        page.wait_for_timeout(100)
+    raise AssertionError("no interpreter image was kept")
+
+
+def test_repeat_visit_restores_the_interpreter_image(context, site, watch):
+    page = context.new_page()
+    page.goto(site.url + case_fragment(CASES["oblique-progressive"]))
+    wait_result(page)
+    assert page.get_attribute("body", "data-engine-start") == "boot"
+    wait_image(page)
+    page.close()
+
+    again = context.new_page()
+    again.goto(site.url + case_fragment(CASES["crossed-obliques"]))
+    wait_result(again)
+    assert again.get_attribute("body", "data-engine-start") == "image"
+    assert_figures_match(again, cli_evaluate(address_case(again)))
+    again.fill("#left-axis", "181")                       # refusals still work
+    wait_result(again, status="stale")
+    assert "left.axis" in again.text_content("#left-axis-error")
+    again.fill("#left-axis", "45")
+    again.click("#add-point")
+    again.locator("#custom-points li").last.locator("[data-field='left.up_mm']").fill("-12")
+    wait_result(again)
+    assert_figures_match(again, cli_evaluate(address_case(again)))
+
+
+def test_damaged_image_is_replaced_and_the_app_still_starts(context, site, watch):
+    page = context.new_page()
+    page.goto(site.url + case_fragment(CASES["anisometropia"]))
+    wait_result(page)
+    key = wait_image(page)
+    page.evaluate("""async (key) => {
+        const cache = await caches.open('pd-interpreter-image');
+        await cache.put(key, new Response(new Uint8Array(4096).fill(7)));
+    }""", key)
+    page.close()
+
+    again = context.new_page()
+    again.goto(site.url + case_fragment(CASES["anisometropia"]))
+    wait_result(again)
+    assert again.get_attribute("body", "data-engine-start") == "boot"
+    assert_figures_match(again, cli_evaluate(address_case(again)))
+    assert wait_image(again, check="size > 1e6") == key
+
+
+def test_installable(context, own_site, watch):
+    page = context.new_page()
+    page.goto(own_site.url)
+    wait_result(page, status="error")                  # an empty form is enough here
+    page.fill("#right-sphere", "0")
+    page.fill("#left-sphere", "0")
+    page.fill("#right-pd", "32")
+    page.fill("#left-pd", "32")
+    wait_result(page)
+    wait_offline_ready(page)
+    cdp = context.new_cdp_session(page)
+    errors = cdp.send("Page.getInstallabilityErrors")["installabilityErrors"]
+    # Test contexts are incognito-like, which alone would stop installing.
+    assert [e for e in errors if e["errorId"] != "in-incognito"] == []
+    manifest = cdp.send("Page.getAppManifest")
+    assert not manifest.get("errors")

@@ -1,0 +1,87 @@
+// Switching between the case screen (the default) and the check screens:
+// pair check, ready-made readers and deviation through glasses. The last
+// screen used is remembered on the device. Built here, after app.js has set up
+// the case form, so that these screens' inputs never mix with the case's.
+import { messenger, offerOffline } from "./app.js";
+import { el, loadSaved, save } from "./checks-common.js";
+import { createVerifyScreen } from "./verify.js";
+import { createReadersScreen } from "./readers.js";
+import { createDeviationScreen } from "./deviation.js";
+
+const SCREENS = [
+  { name: "case", label: "Case", long: "prism at the eyes" },
+  { name: "verify", label: "Pair check", long: "finished spectacles" },
+  { name: "readers", label: "Readers", long: "ready-made, outreach" },
+  { name: "deviation", label: "Deviation", long: "through glasses" },
+];
+const MAKERS = { verify: createVerifyScreen, readers: createReadersScreen, deviation: createDeviationScreen };
+
+const masthead = document.querySelector(".masthead");
+const skip = document.querySelector(".skip");
+const built = new Map(); // name -> {root, shown()}
+const context = {
+  messenger,
+  // After a check screen's first answer the app is offered for offline use, as
+  // after the case screen's first answer (a clinic may never open a case).
+  firstResult: () => { if (typeof offerOffline === "function") offerOffline(); },
+};
+
+const nav = el("nav", { class: "screen-tabs", "aria-label": "Screens" });
+const list = el("ul");
+for (const screen of SCREENS) {
+  const tab = el("button", { type: "button", class: "screen-tab", "data-screen": screen.name, id: "tab-" + screen.name },
+    el("span", { class: "tab-label", text: screen.label }),
+    el("span", { class: "tab-long", text: screen.long }));
+  tab.addEventListener("click", () => show(screen.name, { focus: false }));
+  list.append(el("li", {}, tab));
+}
+nav.append(list);
+masthead.after(nav);
+
+// Arrow keys move between the screen buttons; Tab leaves the bar.
+nav.addEventListener("keydown", (e) => {
+  const tabs = [...nav.querySelectorAll(".screen-tab")];
+  const at = tabs.indexOf(document.activeElement);
+  if (at < 0) return;
+  let next = -1;
+  if (e.key === "ArrowRight" || e.key === "ArrowDown") next = (at + 1) % tabs.length;
+  else if (e.key === "ArrowLeft" || e.key === "ArrowUp") next = (at - 1 + tabs.length) % tabs.length;
+  else if (e.key === "Home") next = 0;
+  else if (e.key === "End") next = tabs.length - 1;
+  if (next < 0) return;
+  e.preventDefault();
+  tabs[next].focus();
+});
+
+function screenRoot(name) {
+  if (!built.has(name)) {
+    const screen = MAKERS[name](context);
+    // Placed after the case screen's main, before the print summary and notices.
+    document.querySelector("#main").after(screen.root);
+    built.set(name, screen);
+  }
+  return built.get(name);
+}
+
+export function show(name, { focus = false } = {}) {
+  if (!SCREENS.some((s) => s.name === name)) name = "case";
+  document.body.dataset.screen = name;
+  for (const tab of nav.querySelectorAll(".screen-tab")) {
+    if (tab.dataset.screen === name) tab.setAttribute("aria-current", "page");
+    else tab.removeAttribute("aria-current");
+  }
+  for (const [other, screen] of built) screen.root.hidden = other !== name;
+  if (name !== "case") {
+    const screen = screenRoot(name);
+    screen.root.hidden = false;
+    screen.shown();
+    if (skip) skip.href = "#" + screen.resultsId;
+    if (focus) screen.root.querySelector("h2")?.focus();
+  } else if (skip) {
+    skip.href = "#results";
+  }
+  save("screen", name);
+  window.scrollTo(0, 0);
+}
+
+show(loadSaved("screen", "case"));
