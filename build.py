@@ -1,8 +1,10 @@
 #!/usr/bin/env python3
-"""Build the Prism Desk web app into dist/ and serve it.
+"""Build the Prism Desk web app into dist/, serve it, test everything.
 
-    python3 build.py                  build dist/
+    python3 build.py                  build dist/ (runs `npm ci` first if node_modules is missing)
     python3 build.py serve [--port N] build if needed, then serve dist/ on 127.0.0.1
+    python3 build.py test             .venv with the pinned tools, npm ci, Chromium; ruff, mypy,
+                                      then every test (core, CLI, and the app in Chromium)
     python3 build.py --check          build, then verify dist/ against its own precache list
 
 Standard library only; the project's wheel is made with ``python -m pip wheel``.
@@ -12,22 +14,27 @@ from __future__ import annotations
 
 import argparse
 import base64
+import contextlib
 import hashlib
 import http.server
 import json
 import os
 import shutil
+import socket
 import struct
 import subprocess
 import sys
 import zlib
 from pathlib import Path
+from typing import Any
 
 ROOT = Path(__file__).resolve().parent
 WEB = ROOT / "web"
 DIST = ROOT / "dist"
 CACHE = ROOT / "build" / "cache"
+VENV = ROOT / ".venv"
 PYODIDE = ROOT / "node_modules" / "pyodide"
+CHROMIUM = Path("/usr/bin/chromium")
 RUNTIME = ["pyodide.mjs", "pyodide.asm.mjs", "pyodide.asm.wasm", "python_stdlib.zip"]
 WHEEL_NAME = "prism-desk"
 APP_NAME = "Prism Desk"
@@ -51,9 +58,35 @@ def sha256(data: bytes) -> str:
     return hashlib.sha256(data).hexdigest()
 
 
+def run(*cmd: str | Path, **kwargs: Any) -> int:
+    print("build.py: $", " ".join(str(c) for c in cmd), flush=True)
+    return subprocess.run([str(c) for c in cmd], cwd=ROOT, check=False, **kwargs).returncode
+
+
+# ---------------------------------------------------------------- npm packages
+def npm_ready() -> bool:
+    """node_modules holds the versions package.json pins (Pyodide, axe-core)."""
+    wanted = json.loads((ROOT / "package.json").read_text())
+    pins = {**wanted.get("dependencies", {}), **wanted.get("devDependencies", {})}
+    for name, version in pins.items():
+        installed = ROOT / "node_modules" / name / "package.json"
+        if not installed.exists() or json.loads(installed.read_text())["version"] != version:
+            return False
+    return True
+
+
+def ensure_npm() -> None:
+    if npm_ready():
+        return
+    if not shutil.which("npm"):
+        sys.exit("build.py: node_modules is incomplete and npm is missing: install Node.js 20+")
+    if run("npm", "ci", "--no-audit", "--no-fund") != 0:
+        sys.exit("build.py: npm ci failed")
+
+
 # ---------------------------------------------------------------- the wheel
 def core_sources() -> list[Path]:
-    files = [ROOT / "pyproject.toml"] + sorted((ROOT / "pycore").rglob("*"))
+    files = [ROOT / "pyproject.toml", *sorted((ROOT / "pycore").rglob("*"))]
     return [f for f in files if f.is_file() and "__pycache__" not in f.parts]
 
 
@@ -70,8 +103,8 @@ def build_wheel() -> Path:
     tmp.mkdir(parents=True)
     env = dict(os.environ, SOURCE_DATE_EPOCH="1577836800")   # reproducible zip timestamps
     cmd = [sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(tmp), str(ROOT)]
-    try:
-        import setuptools  # noqa: F401  (a recent one lets the build skip the isolated env)
+    try:   # a recent setuptools here spares the isolated build environment
+        import setuptools  # type: ignore[import-untyped]
         if int(setuptools.__version__.split(".")[0]) >= 77:
             cmd.insert(4, "--no-build-isolation")
     except ImportError:
@@ -85,7 +118,7 @@ def build_wheel() -> Path:
     return out / wheels[0].name
 
 
-def lock_file(wheel: Path) -> dict:
+def lock_file(wheel: Path) -> dict[str, Any]:
     """A lock file listing only this app's own wheel (no CDN, nothing else to fetch)."""
     upstream = json.loads((PYODIDE / "pyodide-lock.json").read_text())
     version = wheel.name.split("-")[1]
@@ -97,34 +130,42 @@ def lock_file(wheel: Path) -> dict:
 
 
 # ---------------------------------------------------------------- icons
+Point = tuple[float, float]
+
+# The mark, in units of the icon's side: an amber prism refracting a pale ray
+# toward its base. Everything sits inside the maskable safe circle (r = 0.4).
+PRISM: list[Point] = [(0.50, 0.24), (0.76, 0.70), (0.24, 0.70)]
+RAYS: list[tuple[Point, Point]] = [((0.12, 0.47), (0.38, 0.47)), ((0.38, 0.47), (0.62, 0.53)),
+                                   ((0.62, 0.53), (0.88, 0.66))]
+RAY_HALF_WIDTH = 0.022
+
+
 def png(width: int, pixels: bytearray) -> bytes:
-    rows = b"".join(b"\0" + bytes(pixels[y * width * 4:(y + 1) * width * 4]) for y in range(width))
+    stride = width * 4
+    rows = b"".join(b"\0" + bytes(pixels[y * stride:(y + 1) * stride]) for y in range(width))
 
     def chunk(kind: bytes, data: bytes) -> bytes:
-        return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(kind + data))
+        crc = struct.pack(">I", zlib.crc32(kind + data))
+        return struct.pack(">I", len(data)) + kind + data + crc
     header = struct.pack(">IIBBBBB", width, width, 8, 6, 0, 0, 0)
     return (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", header)
             + chunk(b"IDAT", zlib.compress(rows, 9)) + chunk(b"IEND", b""))
 
 
-# The mark, in units of the icon's side: an amber prism refracting a pale ray
-# toward its base. Everything sits inside the maskable safe circle (r = 0.4).
-PRISM = [(0.50, 0.24), (0.76, 0.70), (0.24, 0.70)]
-RAYS = [((0.12, 0.47), (0.38, 0.47)), ((0.38, 0.47), (0.62, 0.53)), ((0.62, 0.53), (0.88, 0.66))]
-RAY_HALF_WIDTH = 0.022
-
-
-def _segment_distance(px: float, py: float, a: tuple, b: tuple) -> float:
+def _segment_distance(px: float, py: float, a: Point, b: Point) -> float:
     (ax, ay), (bx, by) = a, b
     dx, dy = bx - ax, by - ay
     t = max(0.0, min(1.0, ((px - ax) * dx + (py - ay) * dy) / (dx * dx + dy * dy)))
-    return ((px - ax - t * dx) ** 2 + (py - ay - t * dy) ** 2) ** 0.5
+    return float(((px - ax - t * dx) ** 2 + (py - ay - t * dy) ** 2) ** 0.5)
+
+
+def _blend(colour: list[float], over: bytes, cover: float) -> list[float]:
+    return [c + (f - c) * cover for c, f in zip(colour, over, strict=True)]
 
 
 def icon_pixels(size: int) -> bytearray:
-    bg = bytes.fromhex(THEME[1:])
-    fg = bytes.fromhex(ACCENT[1:])
-    ray = bytes.fromhex("ffffff")
+    """The mark drawn with edge-distance anti-aliasing (no supersampling needed)."""
+    bg, fg, ray = bytes.fromhex(THEME[1:]), bytes.fromhex(ACCENT[1:]), b"\xff\xff\xff"
     edges = []
     for i in range(3):
         (x1, y1), (x2, y2) = PRISM[i], PRISM[(i + 1) % 3]
@@ -136,21 +177,22 @@ def icon_pixels(size: int) -> bytearray:
         fy = (y + 0.5) * px_size
         for x in range(size):
             fx = (x + 0.5) * px_size
-            colour = list(bg)
+            colour = [float(c) for c in bg]
             inside = -max((fx - x1) * nx + (fy - y1) * ny for x1, y1, nx, ny in edges)
             cover = max(0.0, min(1.0, inside / px_size + 0.5))
             if cover:
-                colour = [c + (f - c) * cover for c, f in zip(colour, fg)]
+                colour = _blend(colour, fg, cover)
             dist = min(_segment_distance(fx, fy, a, b) for a, b in RAYS) - RAY_HALF_WIDTH
             cover = max(0.0, min(1.0, -dist / px_size + 0.5)) * (0.55 if inside > 0 else 1.0)
             if cover:
-                colour = [c + (f - c) * cover for c, f in zip(colour, ray)]
-            out[(y * size + x) * 4:(y * size + x + 1) * 4] = bytes(round(c) for c in colour) + b"\xff"
+                colour = _blend(colour, ray, cover)
+            at = (y * size + x) * 4
+            out[at:at + 4] = bytes(round(c) for c in colour) + b"\xff"
     return out
 
 
 def icon_svg() -> str:
-    def pts(points: list) -> str:
+    def pts(points: list[Point]) -> str:
         return " ".join(f"{x * 512:g},{y * 512:g}" for x, y in points)
     rays = "".join(f'<line x1="{a[0] * 512:g}" y1="{a[1] * 512:g}" x2="{b[0] * 512:g}" '
                    f'y2="{b[1] * 512:g}"/>' for a, b in RAYS)
@@ -174,26 +216,22 @@ def write_icons(dest: Path) -> None:
     (dest / "icon.svg").write_text(icon_svg())
 
 
-def manifest() -> dict:
+def manifest() -> dict[str, Any]:
+    icons: list[dict[str, str]] = [
+        {"src": f"icons/icon-{s}.png", "sizes": f"{s}x{s}", "type": "image/png", "purpose": p}
+        for p in ("any", "maskable") for s in (192, 512)]
+    icons.append({"src": "icons/icon.svg", "sizes": "any", "type": "image/svg+xml"})
     return {
         "name": APP_NAME, "short_name": APP_NAME, "id": "./", "start_url": "./",
         "scope": "./", "display": "standalone", "background_color": "#fbfbf8",
-        "theme_color": THEME, "lang": "en",
-        "description": "Prism before each eye and binocular imbalance, by Prentice's rule. Works offline.",
-        "icons": [
-            {"src": "icons/icon-192.png", "sizes": "192x192", "type": "image/png", "purpose": "any"},
-            {"src": "icons/icon-512.png", "sizes": "512x512", "type": "image/png", "purpose": "any"},
-            {"src": "icons/icon-192.png", "sizes": "192x192", "type": "image/png", "purpose": "maskable"},
-            {"src": "icons/icon-512.png", "sizes": "512x512", "type": "image/png", "purpose": "maskable"},
-            {"src": "icons/icon.svg", "sizes": "any", "type": "image/svg+xml"}],
-    }
+        "theme_color": THEME, "lang": "en", "icons": icons,
+        "description": "Prism before each eye and binocular imbalance, by Prentice's rule. "
+                       "Works offline."}
 
 
 # ---------------------------------------------------------------- the build
 def build() -> None:
-    for name in RUNTIME + ["pyodide-lock.json"]:
-        if not (PYODIDE / name).exists():
-            sys.exit(f"build.py: {PYODIDE / name} is missing: run `npm ci` first")
+    ensure_npm()
     wheel = build_wheel()
     tmp = DIST.with_name("dist.tmp")
     shutil.rmtree(tmp, ignore_errors=True)
@@ -211,7 +249,6 @@ def build() -> None:
     html.write_text(html.read_text().replace("__CSP__", CSP))
     (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
     write_icons(tmp / "icons")
-
     version, count = write_service_worker(tmp)
     shutil.rmtree(DIST, ignore_errors=True)
     tmp.rename(DIST)
@@ -222,7 +259,8 @@ def write_service_worker(root: Path) -> tuple[str, int]:
     """sw.js for the files under root: the precache list and cache version come from
     the files' own hashes, so a release can never ship a stale list."""
     skip = {"sw.js", "build-info.json"}
-    files = sorted(p for p in root.rglob("*") if p.is_file() and p.relative_to(root).as_posix() not in skip)
+    files = sorted(p for p in root.rglob("*")
+                   if p.is_file() and p.relative_to(root).as_posix() not in skip)
     entries = [["./" + p.relative_to(root).as_posix(),
                 "sha256-" + base64.b64encode(hashlib.sha256(p.read_bytes()).digest()).decode()]
                for p in files]
@@ -230,7 +268,8 @@ def write_service_worker(root: Path) -> tuple[str, int]:
     sw = (WEB / "sw.js").read_text()
     sw = sw.replace("__VERSION__", version).replace("__PRECACHE__", json.dumps(entries, indent=1))
     (root / "sw.js").write_text(sw)
-    (root / "build-info.json").write_text(json.dumps({"version": version, "files": len(entries)}) + "\n")
+    info = {"version": version, "files": len(entries)}
+    (root / "build-info.json").write_text(json.dumps(info) + "\n")
     return version, len(entries)
 
 
@@ -253,21 +292,21 @@ def check() -> int:
             for part in text.split(scheme)[1:]:
                 if not part.startswith("www.w3.org/"):
                     bad.append(f"{path.name}: {scheme}{part[:30]}")
-    print("build.py --check:", "ok" if not bad else "\n  ".join(["problems:"] + bad))
+    print("build.py --check:", "ok" if not bad else "\n  ".join(["problems:", *bad]))
     return 1 if bad else 0
 
 
 def needs_build() -> bool:
-    if not (DIST / "sw.js").exists():
+    if not (DIST / "sw.js").exists() or not npm_ready():
         return True
     built = (DIST / "sw.js").stat().st_mtime
-    sources = list(WEB.rglob("*")) + core_sources() + [Path(__file__)]
+    sources = [*WEB.rglob("*"), *core_sources(), Path(__file__), PYODIDE / "package.json"]
     return any(p.is_file() and p.stat().st_mtime > built for p in sources)
 
 
 # ---------------------------------------------------------------- the server
 class Handler(http.server.SimpleHTTPRequestHandler):
-    extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
+    extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}  # noqa: RUF012
     quiet = False
 
     def end_headers(self) -> None:
@@ -277,7 +316,7 @@ class Handler(http.server.SimpleHTTPRequestHandler):
         self.send_header("Cache-Control", "no-cache")
         super().end_headers()
 
-    def log_message(self, format: str, *args: object) -> None:
+    def log_message(self, format: str, *args: Any) -> None:
         if not self.quiet:
             super().log_message(format, *args)
 
@@ -285,27 +324,58 @@ class Handler(http.server.SimpleHTTPRequestHandler):
 class Server(http.server.ThreadingHTTPServer):
     daemon_threads = True
 
-    def handle_error(self, request: object, client_address: object) -> None:
+    def handle_error(self, request: socket.socket | tuple[bytes, socket.socket],
+                     client_address: Any) -> None:
         if not isinstance(sys.exc_info()[1], (ConnectionError, TimeoutError)):
             super().handle_error(request, client_address)   # a browser hanging up is no error
 
 
 def make_server(root: Path, port: int = 0, quiet: bool = False) -> Server:
     """A server on 127.0.0.1 (port 0: the system picks one); run serve_forever() yourself."""
-    handler = type("RootHandler", (Handler,), {"quiet": quiet})
+    handler: type[Handler] = type("RootHandler", (Handler,), {"quiet": quiet})
 
-    def factory(*args: object, **kwargs: object) -> Handler:
+    def factory(*args: Any, **kwargs: Any) -> Handler:
         return handler(*args, directory=str(root), **kwargs)
     return Server(("127.0.0.1", port), factory)
 
 
+# ---------------------------------------------------------------- everything, tested
+def test() -> int:
+    """Set up what a fresh machine lacks, then ruff, mypy and every test."""
+    python = VENV / "bin" / "python"
+    if not python.exists() and run(sys.executable, "-m", "venv", VENV) != 0:
+        return 1
+    if run(python, "-m", "pip", "install", "--quiet", "-r", "requirements-dev.txt") != 0:
+        return 1
+    ensure_npm()
+    if not CHROMIUM.exists():
+        if os.geteuid() != 0 or not shutil.which("apt-get"):
+            sys.exit(f"build.py: {CHROMIUM} is missing: install Debian's chromium package")
+        env = dict(os.environ, DEBIAN_FRONTEND="noninteractive")
+        if run("apt-get", "update", "-qq", env=env) or run("apt-get", "install", "-y", "-qq",
+                                                           "chromium", env=env):
+            return 1
+    build()
+    if check():
+        return 1
+    failures = [name for name, code in (
+        ("ruff", run(python, "-m", "ruff", "check", ".")),
+        ("mypy", run(python, "-m", "mypy", "pycore", "build.py")),
+        ("pytest", run(python, "-m", "pytest", "-q", "tests")),
+    ) if code]
+    print("build.py test:", "all passed" if not failures else "FAILED: " + ", ".join(failures))
+    return 1 if failures else 0
+
+
 def main(argv: list[str] | None = None) -> int:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("command", nargs="?", choices=["build", "serve"], default="build")
+    parser = argparse.ArgumentParser(description=(__doc__ or "").splitlines()[0])
+    parser.add_argument("command", nargs="?", choices=["build", "serve", "test"], default="build")
     parser.add_argument("--port", type=int, default=8000, help="port for serve (0: any free port)")
     parser.add_argument("--quiet", action="store_true", help="serve without a request log")
     parser.add_argument("--check", action="store_true", help="verify dist/ after building")
     args = parser.parse_args(argv)
+    if args.command == "test":
+        return test()
     if args.command == "build" or needs_build():
         build()
     if args.check:
@@ -314,10 +384,8 @@ def main(argv: list[str] | None = None) -> int:
         server = make_server(DIST, args.port, args.quiet)
         print(f"Serving dist/ at http://127.0.0.1:{server.server_address[1]}/  (Ctrl+C stops)",
               flush=True)
-        try:
+        with contextlib.suppress(KeyboardInterrupt):
             server.serve_forever()
-        except KeyboardInterrupt:
-            pass
     return 0
 
 

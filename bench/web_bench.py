@@ -41,6 +41,7 @@ CHROMIUM = os.environ.get("PRISM_DESK_CHROMIUM", "/usr/bin/chromium")
 ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
         "--disable-component-update", "--disable-sync"]
 BARE = "bench-bare"
+TIMINGS_IN = "() => window.prismEngineTimings && window.prismEngineTimings.first"
 GOALS = {"repeat": 1.0, "cold": 1.2, "recompute_p95_ms": 30.0, "own_kb": 300.0}
 
 BARE_HTML = """<!doctype html><meta charset="utf-8"><title>bare Pyodide</title>
@@ -59,7 +60,8 @@ def write_bare_page() -> None:
     folder.mkdir(exist_ok=True)
     (folder / "index.html").write_text(BARE_HTML)
     (folder / "bare.js").write_text(BARE_JS)
-    shutil.copyfile(build.PYODIDE / "pyodide-lock.json", build.DIST / "pyodide" / "pyodide-lock.json")
+    shutil.copyfile(build.PYODIDE / "pyodide-lock.json",
+                    build.DIST / "pyodide" / "pyodide-lock.json")
 
 
 def remove_bare_page() -> None:
@@ -121,15 +123,16 @@ class Bench:
             ctx = self.profile()
             out["cold"].append(self.visit(ctx, url, done, value))
             page = ctx.pages[0]
-            page.wait_for_function("() => window.prismEngineTimings && window.prismEngineTimings.first")
+            page.wait_for_function(TIMINGS_IN)
             out["engine_cold"] = [page.evaluate("() => window.prismEngineTimings")]
-            page.wait_for_function("() => navigator.serviceWorker.controller !== null", timeout=120_000)
+            page.wait_for_function("() => navigator.serviceWorker.controller !== null",
+                                   timeout=120_000)
             page.wait_for_selector("body[data-offline=ready]", timeout=120_000)
             for _ in range(2):
                 out["repeat"].append(self.visit(ctx, url, done, value))
                 page = ctx.pages[0]
                 assert page.evaluate("() => navigator.serviceWorker.controller !== null")
-            page.wait_for_function("() => window.prismEngineTimings && window.prismEngineTimings.first")
+            page.wait_for_function(TIMINGS_IN)
             out["engine"] = [page.evaluate("() => window.prismEngineTimings")]
             if run == 0:
                 out["recompute"] = self.recompute(page, edits)
@@ -174,6 +177,7 @@ def main() -> int:
 
     if build.needs_build():
         build.build()
+    load_before = os.getloadavg()[0]
     write_bare_page()
     server = build.make_server(build.DIST, 0, quiet=True)
     threading.Thread(target=server.serve_forever, daemon=True).start()
@@ -212,7 +216,9 @@ def main() -> int:
         f"## {datetime.datetime.now().isoformat(timespec='minutes')}",
         "",
         f"Machine: {platform.machine()}, {os.cpu_count()} CPUs; {chromium_version()}; "
-        f"{args.runs} fresh profiles, medians; {len(app['recompute'])} edits.",
+        f"{args.runs} fresh profiles, medians; {len(app['recompute'])} edits; load average "
+        f"{load_before:.1f} before, {os.getloadavg()[0]:.1f} after (other work on the machine "
+        "skews every figure).",
         "",
         "| figure | value | goal |",
         "| --- | --- | --- |",
@@ -242,7 +248,8 @@ def main() -> int:
     if not args.no_write:
         results = ROOT / "bench" / "results-web.md"
         if not results.exists():
-            results.write_text("# Web app speed\n\nAppended by `bench/web_bench.py`; newest last.\n\n")
+            results.write_text("# Web app speed\n\n"
+                               "Appended by `bench/web_bench.py`; newest last.\n\n")
         with results.open("a") as handle:
             handle.write(text + "\n")
     return 0

@@ -377,6 +377,8 @@ export function offerOffline() {
         if (worker.state === "activated" && !hadController) {
           document.body.dataset.offline = "ready";
           notice("Prism Desk now works offline on this device.", null, { quietMs: 8000 });
+          // Ask the browser to keep the offline copy when storage runs low (no prompt in Chromium).
+          navigator.storage?.persist?.().catch(() => {});
         }
       });
     });

@@ -77,14 +77,13 @@ export const signed = (digits) => (v) => {
   const text = fixed(digits)(v);
   return /^[1-9]|^0\.0*[1-9]/.test(text) ? "+" + text : text;
 };
-export const prismDioptres = (v) => fixed(2)(v) + " Δ";
+const prismDioptres = (v) => fixed(2)(v) + " Δ";
 export const millimetres = (v) => fixed(1)(v) + " mm";
 export const dioptres = (v) => signed(2)(v) + " D";
-export const baseInOut = (v) => fixed(2)(Math.abs(v)) + (v > 0 ? " BI" : v < 0 ? " BO" : "");
-export const baseUpDown = (v) => fixed(2)(Math.abs(v)) + (v > 0 ? " BU" : v < 0 ? " BD" : "");
+const baseInOut = (v) => fixed(2)(Math.abs(v)) + (v > 0 ? " BI" : v < 0 ? " BO" : "");
+const baseUpDown = (v) => fixed(2)(Math.abs(v)) + (v > 0 ? " BU" : v < 0 ? " BD" : "");
 export const inOut = (v) => `${fixed(1)(Math.abs(v))} mm ${v < 0 ? "out" : "in"}`;
 export const upDown = (v) => `${fixed(1)(Math.abs(v))} mm ${v < 0 ? "down" : "up"}`;
-export const yesNo = (v) => (v ? "yes" : "no");
 export const words = (v) => String(v).replace(/_/g, " ");
 
 // A number with its unit as the core names it ("prism dioptres" or "mm").
@@ -114,12 +113,6 @@ export function prismFigures(result, key) {
 }
 
 // ---------------------------------------------------------------- building inputs
-let uid = 0;
-export function nextId(prefix) {
-  uid += 1;
-  return `${prefix}-${uid}`;
-}
-
 // A labelled input. kind "text" is sent as typed; "number" becomes a number when
 // it is a plain decimal (anything else is sent as typed so that the core refuses
 // it and names the field).
@@ -179,7 +172,7 @@ export function inputValue(input) {
   return toValue(input.value);
 }
 
-export function setPath(doc, path, value) {
+function setPath(doc, path, value) {
   const parts = path.split(".");
   let node = doc;
   parts.slice(0, -1).forEach((part, i) => {
@@ -196,7 +189,10 @@ export function collect(root) {
   const inputs = new Map();
   let typed = false;
   for (const input of root.querySelectorAll("[data-path]")) {
-    if (input.closest("[hidden]") || input.disabled) continue;
+    // Parts of the form hidden for the current choices are left out (the whole
+    // screen being hidden is not such a part).
+    const hiddenPart = input.closest("[hidden]");
+    if ((hiddenPart && root.contains(hiddenPart)) || input.disabled) continue;
     if (input.type === "radio" && !input.checked) continue;
     const path = input.dataset.path;
     if (!inputs.has(path)) inputs.set(path, input);
@@ -212,7 +208,7 @@ export function collect(root) {
 // The input a refusal belongs to: the exact path, a prescription's text field
 // for its sphere/cylinder/axis, else the nearest enclosing path, else the first
 // input under it.
-export function inputFor(field, inputs, aliases = {}) {
+function inputFor(field, inputs, aliases = {}) {
   if (!field) return null;
   if (aliases[field] && inputs.get(aliases[field])) return inputs.get(aliases[field]);
   const rx = field.replace(/\.(sphere|cylinder|axis)$/, ".rx");
@@ -227,7 +223,7 @@ export function inputFor(field, inputs, aliases = {}) {
   return null;
 }
 
-export function labelOf(input) {
+function labelOf(input) {
   if (!input) return "";
   if (input.labels && input.labels.length) return firstLine(input.labels[0]);
   const ids = (input.getAttribute("aria-labelledby") || "").split(/\s+/).filter(Boolean);

@@ -3,7 +3,7 @@
 // on the shelf (docs/case-format.md, "## Ready-made readers"). Handing a pair
 // out and undoing it go through the core as well (readers_hand_out, readers_undo).
 import {
-  Calculation, button, cautionsBox, collect, download, el, eyeGrid, factRow, facts, field, fig, inputValue,
+  Calculation, button, cautionsBox, collect, download, el, eyeGrid, factRow, facts, field, fig, fixed, inputValue,
   loadSaved, millimetres, prismFigures, restoreFormDraft, resultsPanel, save, saveFormDraft, selectField,
   signed, standingCaution, withUnit,
 } from "./checks-common.js";
@@ -72,8 +72,8 @@ export function createReadersScreen({ messenger, firstResult }) {
     stockList,
     el("div", { class: "buttons" },
       button("Add a pair", { id: "rd-add-row", class: "secondary" }),
-      button("Import CSV…", { id: "rd-import", class: "secondary", "aria-label": "Import stock from a CSV file" }),
-      button("Export CSV", { id: "rd-export", class: "secondary", "aria-label": "Export the stock as a CSV file" }),
+      button("Import CSV…", { id: "rd-import", class: "secondary" }),
+      button("Export CSV", { id: "rd-export", class: "secondary" }),
       fileInput),
     stockMessage, importReport);
 
@@ -415,14 +415,15 @@ export function createReadersScreen({ messenger, firstResult }) {
           " · L ", fig(result, p + ".visual_point_in_from_oc_mm.left", (v) => `${Math.abs(v).toFixed(1)} mm ${v < 0 ? "temporal" : "nasal"}`),
           " of the OCs"),
         factRow("Near CD through this pair", fig(result, p + ".near_cd_mm", millimetres))),
-      el("div", { class: "table-wrap" }, el("table", { class: "readings" },
-        el("thead", {}, el("tr", {}, ...["Check", "Value", "Limit", "Margin", ""].map((t) => el("th", { scope: "col", text: t })))),
+      el("div", { class: "table-wrap", tabindex: "0", role: "region", "aria-label": "Prism checks of this pair" }, el("table", { class: "readings" },
+        el("caption", { text: "Checks against the limits, prism dioptres" }),
+        el("thead", {}, el("tr", {}, ...["Check", "Value", "Limit", "Margin", "Result"].map((t) => el("th", { scope: "col", text: t })))),
         el("tbody", {}, ...pair.checks.map((_, k) => {
           const c = `${p}.checks.${k}`;
           return el("tr", {}, el("th", { scope: "row" }, fig(result, c + ".label")),
-            el("td", {}, fig(result, c + ".value", withUnit("prism dioptres"))),
-            el("td", {}, fig(result, c + ".limit", withUnit("prism dioptres"))),
-            el("td", {}, fig(result, c + ".margin", withUnit("prism dioptres", 2, true))),
+            el("td", {}, fig(result, c + ".value", fixed(2))),
+            el("td", {}, fig(result, c + ".limit", fixed(2))),
+            el("td", {}, fig(result, c + ".margin", signed(2))),
             el("td", {}, fig(result, c + ".pass", (ok) => (ok ? "within" : "over"))));
         })))));
   }

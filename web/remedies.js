@@ -44,17 +44,16 @@ function detailsDissimilar(result, base, option) {
   const d = `${base}.details`;
   const list = (option.details && option.details.options) || [];
   if (!list.length) return null;
-  const rows = list.map((item, i) => el("tr", { class: item.eye === option.details.chosen ? "zchosen" : null },
-    el("th", { scope: "row" }, fig(result, `${d}.options.${i}.eye`, (v) => EYE_WORDS[v] || v),
-      item.eye === option.details.chosen ? el("span", { class: "zchosen-mark", text: " (chosen)" }) : null),
-    el("td", {}, fig(result, `${d}.options.${i}.kind`)),
-    el("td", {}, fig(result, `${d}.options.${i}.from_mm`, mm), " → ", fig(result, `${d}.options.${i}.to_mm`, mm)),
-    el("td", {}, fig(result, `${d}.options.${i}.feasible`, (v) => (v ? "yes" : "no"))),
-    el("td", {}, fig(result, `${d}.options.${i}.image_jump`, prism))));
-  return el("div", { class: "ztable-scroll" }, el("table", { class: "zsmall" },
-    el("caption", { text: "Either segment could change; the smaller change is chosen" }),
-    el("thead", {}, el("tr", {}, ...["Eye", "Change", "From → to", "Usual size?", "Image jump"].map((t) => el("th", { scope: "col", text: t })))),
-    el("tbody", {}, ...rows)));
+  const dl = el("dl", { class: "facts zfacts" });
+  list.forEach((item, i) => {
+    const o = `${d}.options.${i}`;
+    const chosen = item.eye === option.details.chosen;
+    dl.append(factRow(`${EYE_WORDS[item.eye] || item.eye} segment${chosen ? " (chosen)" : ""}`,
+      fig(result, `${o}.kind`), ": ", fig(result, `${o}.from_mm`, mm), " → ", fig(result, `${o}.to_mm`, mm),
+      "; within usual sizes: ", fig(result, `${o}.feasible`, (v) => (v ? "yes" : "no")),
+      "; image jump ", fig(result, `${o}.image_jump`, prism)));
+  });
+  return [el("p", { class: "zhint", text: "Either segment could change; the smaller change is chosen." }), dl];
 }
 
 function detailsLowered(result, base, option) {
@@ -163,7 +162,7 @@ function card(result, i, onApply) {
     badges.append(el("span", { class: "zbadge is-na", "data-key": `${base}.available`, "data-value": "false" }, "Does not apply"));
   }
   const node = el("li", { class: `zcard${option.recommended ? " is-suggested" : ""}${option.available ? "" : " is-na"}`,
-    "data-remedy": option.id, "aria-labelledby": headingId },
+    "data-remedy": option.id, "aria-labelledby": headingId, id: `zcard-${option.id}`, tabindex: "-1" },
   el("h4", { id: headingId }, fig(result, `${base}.name`)), badges.children.length ? badges : null);
   if (!option.available) {
     node.append(el("p", { class: "zwhy" }, el("strong", { text: "Why not: " }), fig(result, `${base}.why_not`)));
@@ -196,6 +195,29 @@ function card(result, i, onApply) {
   return node;
 }
 
+// All options at a glance: what each leaves at distance and at the reading point.
+function glance(result) {
+  const options = result.remedies.options;
+  const cell = (base, where) => el("td", { class: "znum" },
+    fig(result, `${base}.${where}.vertical_base_up_right`, signed), " ",
+    verdict(result, `${base}.within_threshold.${where}`, "within", "over"));
+  const rows = options.map((option, i) => {
+    const base = `remedies.options.${i}`;
+    const name = el("a", { href: `#zcard-${option.id}` }, fig(result, `${base}.name`));
+    const head = el("th", { scope: "row" }, name, option.recommended ? el("span", { class: "zstar" },
+      el("span", { "aria-hidden": "true", text: " ★" }), el("span", { class: "visually-hidden", text: " (suggested)" })) : null);
+    if (!option.available) {
+      return el("tr", { class: "is-na" }, head, el("td", { colspan: "2", class: "zna", text: "does not apply" }));
+    }
+    return el("tr", { class: option.recommended ? "is-suggested" : null }, head, cell(base, "distance"), cell(base, "near"));
+  });
+  return el("div", { class: "ztable-scroll" }, el("table", { class: "zglance" },
+    el("caption", { text: "Net vertical prism, Δ: + base up before the right eye, − before the left. ★ suggested." }),
+    el("thead", {}, el("tr", {}, el("th", { scope: "col", text: "Remedy" }), el("th", { scope: "col", text: "Distance" }),
+      el("th", { scope: "col", text: "Reading point" }))),
+    el("tbody", {}, ...rows)));
+}
+
 export function renderRemedies(result, { onApply }) {
   const section = result.remedies;
   if (!section) return null;
@@ -211,7 +233,7 @@ export function renderRemedies(result, { onApply }) {
     el("li", {}, fig(result, `remedies.cautions.${k}`))));
   return el("section", { class: "zremedies", id: "zone-remedies", "aria-labelledby": "h-remedies" },
     el("h3", { id: "h-remedies", text: "Remedies side by side" }),
-    lead, pick,
+    lead, pick, glance(result),
     el("p", { class: "zhint", text: "Vertical figures: net prism between the eyes. “Apply” puts the finished case in the " +
       "form so that every figure is worked out for it; you can go back to the case before in one step." }),
     list,

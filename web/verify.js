@@ -2,7 +2,7 @@
 // prism tolerances. Builds the verification document (docs/case-format.md,
 // "## Verification") from the form and draws the core's verdicts.
 import {
-  Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, inOut,
+  Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, fixed, inOut,
   loadSaved, prismFigures, prismText, restoreFormDraft, resultsPanel, rxText, saveFormDraft, selectField,
   signed, standingCaution, upDown, withUnit, words,
 } from "./checks-common.js";
@@ -194,9 +194,11 @@ export function createVerifyScreen({ messenger, firstResult }) {
           " · ", el("span", { class: "certainty " + (row.unverified ? "bad" : "good") }, fig(standards, r + ".certainty"))),
         el("ul", { class: "bands" }, ...row.bands.map((band, k) => {
           const b = `${r}.bands.${k}`;
-          return el("li", {},
-            band.up_to_power_d === null ? (row.bands.length > 1 ? "above: " : "any power: ")
-              : el("span", {}, "up to ±", fig(standards, b + ".up_to_power_d", (v) => v + " D"), ": "),
+          const below = row.bands.findLastIndex((other, m) => m < k && other.up_to_power_d !== null);
+          let reach = "at any power: ";
+          if (band.up_to_power_d !== null) reach = el("span", {}, "up to ±", fig(standards, b + ".up_to_power_d", (v) => v + " D"), ": ");
+          else if (below >= 0) reach = el("span", {}, "above ±", fig(standards, `${r}.bands.${below}.up_to_power_d`, (v) => v + " D"), ": ");
+          return el("li", {}, reach,
             fig(standards, b + ".what"), " at most ", fig(standards, b + ".limit", (v) => String(v)), " ",
             fig(standards, b + ".unit"),
             band.per_eye_limit !== null ? el("span", {}, " (", fig(standards, b + ".per_eye_limit", String), " per lens)") : null,
@@ -267,16 +269,16 @@ export function createVerifyScreen({ messenger, firstResult }) {
         return el("tr", { class: name === used ? "used" : "" },
           el("th", { scope: "row" }, name === "total" ? "Total for the pair" : "Each lens on its own",
             name === used ? el("span", { class: "used-tag", text: " (used)" }) : null),
-          el("td", {}, fig(result, r + ".value", withUnit("prism dioptres")),
-            name === "per_eye" ? el("small", {}, " R ", fig(result, r + ".right", withUnit("prism dioptres")), " · L ",
-              fig(result, r + ".left", withUnit("prism dioptres"))) : null),
-          el("td", {}, fig(result, r + ".limit", withUnit("prism dioptres"))),
-          el("td", {}, fig(result, r + ".margin", withUnit("prism dioptres", 2, true))),
+          el("td", {}, fig(result, r + ".value", fixed(2)),
+            name === "per_eye" ? el("small", {}, " R ", fig(result, r + ".right", fixed(2)), " · L ",
+              fig(result, r + ".left", fixed(2))) : null),
+          el("td", {}, fig(result, r + ".limit", fixed(2))),
+          el("td", {}, fig(result, r + ".margin", signed(2))),
           el("td", {}, fig(result, r + ".pass", (ok) => (ok ? "within" : "over"))));
       });
-      card.append(el("div", { class: "table-wrap" }, el("table", { class: "readings" },
-        el("caption", {}, "Horizontal readings; the verdict uses: ", fig(result, p + ".reading", words)),
-        el("thead", {}, el("tr", {}, ...["Reading", "Value", "Limit", "Margin", ""].map((t) => el("th", { scope: "col", text: t })))),
+      card.append(el("div", { class: "table-wrap", tabindex: "0", role: "region", "aria-label": "Horizontal readings" }, el("table", { class: "readings" },
+        el("caption", {}, "Horizontal readings, prism dioptres; the verdict uses: ", fig(result, p + ".reading", words)),
+        el("thead", {}, el("tr", {}, ...["Reading", "Value", "Limit", "Margin", "Result"].map((t) => el("th", { scope: "col", text: t })))),
         el("tbody", {}, ...rows))));
     }
     if (v.options) {
@@ -289,9 +291,9 @@ export function createVerifyScreen({ messenger, firstResult }) {
           el("td", {}, fig(result, r + ".margin", withUnit(o.unit, 2, true))),
           el("td", {}, fig(result, r + ".pass", (ok) => (ok ? "within" : "over"))));
       });
-      card.append(el("div", { class: "table-wrap" }, el("table", { class: "readings" },
+      card.append(el("div", { class: "table-wrap", tabindex: "0", role: "region", "aria-label": "Either limit suffices" }, el("table", { class: "readings" },
         el("caption", { text: "Either limit suffices" }),
-        el("thead", {}, el("tr", {}, ...["Quantity", "Value", "Limit", "Margin", ""].map((t) => el("th", { scope: "col", text: t })))),
+        el("thead", {}, el("tr", {}, ...["Quantity", "Value", "Limit", "Margin", "Result"].map((t) => el("th", { scope: "col", text: t })))),
         el("tbody", {}, ...rows))));
     }
     card.append(facts(

@@ -33,14 +33,12 @@ export const ZONE_PATH_WORDS = {
   map_step_mm: "map step",
 };
 
-const DESIGNS = [["single_vision", "Single vision"], ["bifocal", "Bifocal segment"], ["progressive", "Progressive"]];
-const SHAPES = [["", "Not given (all below the top line)"], ["round", "Round"], ["flat_top", "Flat-top"],
-  ["straight_across", "Straight-across"]];
-const RULES = [["", "Automatic (near zone of a progressive, else below the distance reference point)"],
-  ["distance_reference", "A depth below the distance reference point"],
-  ["segment_top", "A depth below the segment tops"], ["near_zone", "The progressive's near reference point"]];
-const WORN = [["", "Spectacles fitted for distance"], ["reading_spectacles", "Reading spectacles (centred for near)"],
-  ["contact_lenses", "Contact lenses (move with the eye)"]];
+const DESIGNS = [["single_vision", "Single vision"], ["bifocal", "Bifocal"], ["progressive", "Progressive"]];
+const SHAPES = [["", "Top only"], ["round", "Round"], ["flat_top", "Flat-top"], ["straight_across", "Straight-across"]];
+const RULES = [["", "Automatic"], ["distance_reference", "Below the distance reference point"],
+  ["segment_top", "Below the segment tops"], ["near_zone", "Progressive near point"]];
+const WORN = [["", "Spectacles (fitted for distance)"], ["reading_spectacles", "Reading spectacles"],
+  ["contact_lenses", "Contact lenses"]];
 
 function plainObject(value) {
   return value && typeof value === "object" && !Array.isArray(value) ? value : null;
@@ -96,23 +94,23 @@ export class ZoneFormPart {
       this.fields.set(`${eye}.design`, node);
       return node;
     });
-    row("shape", "Segment shape", null, (eye) => {
+    row("shape", "Segment shape", "top only: all below the top line", (eye) => {
       const node = select(`${eye}-seg-shape`, SHAPES, { "data-path": `${eye}.segment.shape` });
       this.fields.set(`${eye}.segment.shape`, node);
       return node;
     }, "bifocal");
-    row("size", "Segment size", "mm: round diameter or flat-top width", (eye) => {
+    row("size", "Segment size", "mm: diameter or flat-top width", (eye) => {
       const input = number(`${eye}.segment.size`, `${eye}-seg-size`);
       input.dataset.path = `${eye}.segment.diameter_mm`;
       return input;
     }, "sized");
-    row("top", "Segment top", "mm from the distance reference point; negative below", (eye) =>
+    row("top", "Segment top", "mm; below is negative", (eye) =>
       number(`${eye}.segment.top_mm`, `${eye}-seg-top`), "bifocal");
-    row("ocbelow", "Segment optical centre below its top", "mm, optional: overrides the usual rule", (eye) =>
+    row("ocbelow", "Segment optical centre below the top", "mm, optional: overrides the usual rule", (eye) =>
       number(`${eye}.segment.optical_centre_below_top_mm`, `${eye}-seg-oc-below`, "usual rule"), "bifocal");
-    row("ocin", "Segment optical centre in", "mm toward the nose, optional", (eye) =>
+    row("ocin", "Segment optical centre in", "mm, optional", (eye) =>
       number(`${eye}.segment.optical_centre_in_mm`, `${eye}-seg-oc-in`, "0"), "bifocal");
-    row("prp", "Fitting cross above the PRP", "mm (prism reference point below the cross)", (eye) =>
+    row("prp", "Fitting cross above the PRP", "mm", (eye) =>
       number(`${eye}.progressive.prism_reference_below_cross_mm`, `${eye}-prog-prp`, "default"), "progressive");
     row("neardepth", "Near depth", "mm below the fitting cross", (eye) =>
       number(`${eye}.progressive.near_depth_mm`, `${eye}-prog-near-depth`, "default"), "progressive");
@@ -120,13 +118,13 @@ export class ZoneFormPart {
       number(`${eye}.progressive.near_inset_mm`, `${eye}-prog-near-inset`, "default"), "progressive");
     row("thinning", "Thinning prism", "Δ base down, optional", (eye) =>
       number(`${eye}.progressive.thinning_prism_base_down`, `${eye}-prog-thinning`, "none"), "progressive");
-    row("slab", "Slab-off", "Δ base up below the line; negative: reverse slab. Optional", (eye) =>
+    row("slab", "Slab-off", "Δ base up below the line; negative: reverse slab; optional", (eye) =>
       number(`${eye}.slab_off.base_up`, `${eye}-slab-base`));
-    row("slabline", "Slab line", "mm from the distance reference point; negative below", (eye) =>
+    row("slabline", "Slab line", "mm; below is negative", (eye) =>
       number(`${eye}.slab_off.line_mm`, `${eye}-slab-line`));
 
     const copy = el("button", { type: "button", class: "secondary zcopy", id: "zone-copy-design",
-      text: "Copy the right lens design to the left" });
+      text: "Copy the right lens design to the left" }); // slab-off excepted
     copy.addEventListener("click", () => this.copyRightToLeft());
 
     const field = (path, id, label, hint, control) => {
@@ -150,7 +148,8 @@ export class ZoneFormPart {
     const lower = numberField("lower_centres_mm", "Lower both centres by", "mm, for the lowered-centres remedy", "balance");
     lower.append(inUse("lower_centres_mm"));
 
-    const rule = field("reading_zone.reading_point", "rz-reading-point", "Reading point", null, select("", RULES));
+    const rule = field("reading_zone.reading_point", "rz-reading-point", "Reading point",
+      "automatic: a progressive's near point, else a depth below the distance reference point", select("", RULES));
     const depth = numberField("reading_depth_mm", "Reading depth", "mm below the distance reference point", "fitting's");
     depth.dataset.show = "depth";
     const belowTops = numberField("below_segment_top_mm", "Depth below the segment tops", "mm", "default");
@@ -208,7 +207,8 @@ export class ZoneFormPart {
 
   copyRightToLeft() {
     for (const [path, control] of this.fields) {
-      if (!path.startsWith("right.")) continue;
+      // A slab-off belongs to one lens: it is not copied.
+      if (!path.startsWith("right.") || path.includes(".slab_off.")) continue;
       const twin = this.fields.get("left." + path.slice(6));
       if (twin) twin.value = control.value;
     }

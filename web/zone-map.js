@@ -141,12 +141,13 @@ export function drawMap(zone, mode, { onPick } = {}) {
   map.drop_mm.forEach((drop, i) => {
     if (!near(drop, rowStride)) return;
     ticks.append(svg("text", { x: LEFT - 6, y: (y(i) + cell / 2 + FONT * 0.35).toFixed(1), "text-anchor": "end",
-      text: String(drop) }));
+      "data-key": `reading_zone.map.drop_mm.${i}`, "data-value": String(drop), text: String(drop) }));
   });
   const colStride = stride(map.lateral_mm);
   map.lateral_mm.forEach((lateral, j) => {
     if (!near(lateral, colStride)) return;
     ticks.append(svg("text", { x: (x(j) + cell / 2).toFixed(1), y: TOP - 8, "text-anchor": "middle",
+      "data-key": `reading_zone.map.lateral_mm.${j}`, "data-value": String(lateral),
       text: lateral > 0 ? "+" + lateral : String(lateral).replace("-", "−") }));
   });
   root.append(ticks);

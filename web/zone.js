@@ -58,6 +58,7 @@ function keyFigures(result) {
       el("div", { class: "zkey-card zkey-threshold" }, el("h4", { text: "Threshold (vertical)" }),
         el("p", { class: "zkey-v" }, fig(result, `${z}.threshold.vertical`, prism)),
         el("p", { class: "zkey-h" }, "Reached: ", reached))),
+    el("p", { class: "zsource" }, "Threshold: ", fig(result, `${z}.threshold.source`, null, "zplain")),
     el("dl", { class: "facts zfacts" },
       factRow("Reading point", fig(result, `${geometry}.rule`, (v) => RULE_WORDS[v] || v), ": ", point("right"), " · ",
         point("left"), " mm from each reference point"),
@@ -65,31 +66,38 @@ function keyFigures(result) {
         fig(result, `${geometry}.near_inset_mm.right`, mm), " · L ", fig(result, `${geometry}.near_inset_mm.left`, mm)),
       factRow("Worn as", fig(result, `${geometry}.worn_as`, (v) => WORN_WORDS[v] || v),
         zone.geometry.fitting_assumed ? el("span", { class: "zwarn-inline" }, " · no fitting given: PDs of 32/32 mm assumed (",
-          fig(result, `${geometry}.fitting_assumed`, () => "assumed"), ")") : null),
-      factRow("Threshold from", fig(result, `${z}.threshold.source`))),
+          fig(result, `${geometry}.fitting_assumed`, () => "assumed"), ")") : null)),
   ];
 }
 
 // ---------------------------------------------------------------- the map
-function summarySentence(result, mode) {
+// The map in one sentence, as figures tagged with their keys (a node), and as plain text.
+function summary(result, mode) {
   const zone = result.reading_zone;
-  const f = (key, format) => format(get(result, key));
+  const f = (key, format) => fig(result, key, format);
+  const z = "reading_zone";
+  let parts;
   if (mode === "horizontal") {
-    return `Net horizontal prism over the lower lenses, from the primary position down ${f("reading_zone.map.drop_mm." +
-      (zone.map.drop_mm.length - 1), mm)} and ${f("reading_zone.map.lateral_mm.0", (v) => fixed(0)(Math.abs(v)))} mm ` +
-      `to each side: ${f("reading_zone.at_distance.horizontal_base_in", netHorizontal)} at distance, ` +
-      `${f("reading_zone.at_reading_point.horizontal_base_in", netHorizontal)} at the reading point; ` +
-      `up to ${f("reading_zone.map.scale.horizontal_max_abs", prism)} on the map.`;
+    parts = ["Net horizontal prism over the lower lenses, from the primary position down ",
+      f(`${z}.map.drop_mm.${zone.map.drop_mm.length - 1}`, mm), " and ",
+      f(`${z}.map.lateral_mm.0`, (v) => fixed(0)(Math.abs(v))), " mm to each side: ",
+      f(`${z}.at_distance.horizontal_base_in`, netHorizontal), " at distance, ",
+      f(`${z}.at_reading_point.horizontal_base_in`, netHorizontal), " at the reading point; up to ",
+      f(`${z}.map.scale.horizontal_max_abs`, prism), " on the map."];
+  } else {
+    const drop = zone.threshold_drop_mm;
+    const threshold = () => f(`${z}.threshold.vertical`, prism);
+    const reach = drop === null || drop === undefined ? ["It stays under the ", threshold(), " threshold down the reading path."]
+      : drop === 0 ? ["It is at or over the ", threshold(), " threshold already in the primary position."]
+        : ["It reaches the ", threshold(), " threshold ", f(`${z}.threshold_drop_mm`, mm), " below the primary position."];
+    parts = ["Vertical imbalance between the eyes over the lower lenses: ",
+      f(`${z}.at_distance.vertical_base_up_right`, netVertical), " at distance, ",
+      f(`${z}.at_reading_point.vertical_base_up_right`, netVertical), " at the reading point (",
+      f(`${z}.geometry.reading_drop_mm`, mm), " down). ", ...reach, " Largest on the map: ",
+      f(`${z}.map.scale.vertical_max_abs`, prism), "."];
   }
-  const drop = zone.threshold_drop_mm;
-  const threshold = f("reading_zone.threshold.vertical", prism);
-  const reach = drop === null || drop === undefined ? `It stays under the ${threshold} threshold down the reading path.`
-    : drop === 0 ? `It is at or over the ${threshold} threshold already in the primary position.`
-      : `It reaches the ${threshold} threshold ${f("reading_zone.threshold_drop_mm", mm)} below the primary position.`;
-  return `Vertical imbalance between the eyes over the lower lenses: ${f("reading_zone.at_distance.vertical_base_up_right",
-    netVertical)} at distance, ${f("reading_zone.at_reading_point.vertical_base_up_right", netVertical)} at the reading ` +
-    `point (${f("reading_zone.geometry.reading_drop_mm", mm)} down). ${reach} Largest on the map: ` +
-    `${f("reading_zone.map.scale.vertical_max_abs", prism)}.`;
+  const node = el("span", {}, ...parts);
+  return { node, text: node.textContent };
 }
 
 function mapTable(result, mode) {
@@ -119,7 +127,7 @@ function legend(result, mode) {
     ["zkey-ring", "Reading point"],
   ];
   if (!horizontal) {
-    items.push(["zkey-contour", "Threshold contour: inside it the imbalance is at or over the threshold"]);
+    items.push(["zkey-contour", "Thick line: the threshold; past it the imbalance is at or over the threshold"]);
     items.push(["zkey-hatch", "Hatched: at or over the threshold (/ base up right eye, \\ base up left eye)"]);
     if (zone.threshold_drop_mm !== null && zone.threshold_drop_mm !== undefined) {
       items.push(["zkey-diamond", "Diamond and dashed line: where the reading path reaches the threshold"]);
@@ -157,13 +165,13 @@ function mapFigure(result, state, rerender) {
       " · zones R ", fig(result, `reading_zone.map.zones.right.${i}.${j}`), ", L ", fig(result, `reading_zone.map.zones.left.${i}.${j}`));
   };
   const svgNode = drawMap(zone, mode, { onPick: (i, j) => { state.pick = { i, j }; showPick(); } });
-  const sentence = summarySentence(result, mode);
+  const sentence = summary(result, mode);
   svgNode.setAttribute("role", "img");
-  svgNode.setAttribute("aria-label", sentence);
+  svgNode.setAttribute("aria-label", sentence.text);
   showPick();
 
-  const toggle = el("div", { class: "zseg", role: "group", "aria-label": "The map shows" },
-    ...[["vertical", "Vertical imbalance"], ["horizontal", "Horizontal"]].map(([value, text]) => {
+  const toggle = el("div", { class: "zseg", role: "group", "aria-labelledby": "zseg-label" },
+    ...[["vertical", "Vertical"], ["horizontal", "Horizontal"]].map(([value, text]) => {
       const button = el("button", { type: "button", class: "zseg-btn", "aria-pressed": String(mode === value),
         "data-map-mode": value, text });
       button.addEventListener("click", () => {
@@ -185,7 +193,7 @@ function mapFigure(result, state, rerender) {
   if (state.table) region.append(mapTable(result, mode));
 
   return el("figure", { class: "zmap", "aria-labelledby": "zmap-caption" },
-    toggle,
+    el("div", { class: "zseg-row" }, el("span", { id: "zseg-label", class: "zseg-label", text: "Map of the net prism:" }), toggle),
     el("div", { class: "zmap-axis-top", "aria-hidden": "true" },
       el("span", { text: "← wearer's left" }), el("span", { text: "turn, mm" }), el("span", { text: "wearer's right →" })),
     el("div", { class: "zmap-frame" },
@@ -193,8 +201,8 @@ function mapFigure(result, state, rerender) {
       svgNode),
     readout,
     legend(result, mode),
-    el("figcaption", { id: "zmap-caption", class: "zmap-caption", text: sentence +
-      " Seen as the wearer looks through the lenses; the eyes converge as they drop." }),
+    el("figcaption", { id: "zmap-caption", class: "zmap-caption" }, sentence.node,
+      " Seen as the wearer looks through the lenses; the eyes converge as they drop."),
     tableButton, region);
 }
 
@@ -243,7 +251,7 @@ function jumpBlock(result) {
     dl.append(factRow("Between the eyes, crossing both tops", fig(result, "reading_zone.image_jump.vertical_step_at_tops", netVertical)));
   }
   return el("div", { class: "zblock" }, el("h4", { text: "Image jump" }), dl,
-    el("p", { class: "zsource" }, fig(result, "reading_zone.image_jump.source")));
+    el("p", { class: "zsource", text: "The add's own prism, met on crossing the segment top." }));
 }
 
 function thinningBlock(result) {
@@ -310,10 +318,11 @@ function sensitivityBlock(result) {
 function printBlock(result) {
   const zone = result.reading_zone;
   const nodes = [el("h2", { class: "print-zone-title", text: "Reading zone" })];
-  nodes.push(el("p", {}, summarySentence(result, "vertical")));
+  const sentence = summary(result, "vertical");
+  nodes.push(el("p", {}, sentence.node));
   const map = drawMap(zone, "vertical");
   map.setAttribute("role", "img");
-  map.setAttribute("aria-label", summarySentence(result, "vertical"));
+  map.setAttribute("aria-label", sentence.text);
   nodes.push(el("div", { class: "print-zone-map" }, map,
     el("p", { class: "print-zone-key", text: "Orange: base up before the right eye; blue: before the left; darker is more. " +
       "Thick line: the threshold; hatched: at or over it (/ right, \\ left). Ring: the reading point. Wearer's view, " +

@@ -17,11 +17,13 @@ SCREENS = ROOT / "screens"
 CASES: dict[str, dict[str, Any]] = {
     "oblique-progressive": {
         "name": "Oblique cylinder, prism as written",
-        "right": {"sphere": -3.25, "cylinder": -0.75, "axis": 20, "add": 2.0, "prism": "1.5 BU 2 BI"},
+        "right": {"sphere": -3.25, "cylinder": -0.75, "axis": 20, "add": 2.0,
+                  "prism": "1.5 BU 2 BI"},
         "left": {"sphere": -1.0, "cylinder": 0, "axis": 0, "add": 2.0},
         "fitting": {"right": {"mono_pd_mm": 32, "height_mm": 20},
                     "left": {"mono_pd_mm": 31.5, "height_mm": 20},
-                    "working_distance_mm": 400, "centre_of_rotation_mm": 27, "reading_depth_mm": 10},
+                    "working_distance_mm": 400, "centre_of_rotation_mm": 27,
+                    "reading_depth_mm": 10},
         "frame": {"a_mm": 52, "dbl_mm": 18, "ed_mm": 56},
         "points": ["distance", "near",
                    {"name": "left gaze", "right": {"in_mm": -8, "up_mm": 0},
@@ -32,17 +34,20 @@ CASES: dict[str, dict[str, Any]] = {
         "right": {"sphere": 4.5, "cylinder": -2.0, "axis": 135, "add": 2.5, "prism": "2.5 @ 37"},
         "left": {"sphere": 3.0, "cylinder": -1.25, "axis": 45, "add": 2.5},
         "fitting": {"right": {"mono_pd_mm": 30.5}, "left": {"mono_pd_mm": 31},
-                    "working_distance_mm": 330, "centre_of_rotation_mm": 25, "reading_depth_mm": 12},
+                    "working_distance_mm": 330, "centre_of_rotation_mm": 25,
+                    "reading_depth_mm": 12},
         "frame": {"a_mm": 50, "dbl_mm": 20, "ed_mm": 55, "b_mm": 38},
         "points": ["near", "distance",
                    {"name": "down and right", "right": {"in_mm": -6, "up_mm": -9},
                     "left": {"in_mm": 6, "up_mm": -9}},
-                   {"name": "up", "right": {"in_mm": 0, "up_mm": 7}, "left": {"in_mm": 0, "up_mm": 7}}],
+                   {"name": "up", "right": {"in_mm": 0, "up_mm": 7},
+                    "left": {"in_mm": 0, "up_mm": 7}}],
     },
     "anisometropia": {
         "name": "Anisometropia, reading low",
         "right": {"rx": "-6.00 / -1.50 x 65"},
-        "left": {"sphere": -2.0, "cylinder": -1.0, "axis": 170, "prism": {"base_in": -1, "base_up": 0.5}},
+        "left": {"sphere": -2.0, "cylinder": -1.0, "axis": 170,
+                 "prism": {"base_in": -1, "base_up": 0.5}},
         "fitting": {"right": {"mono_pd_mm": 33}, "left": {"mono_pd_mm": 32}},
     },
     "own-points-only": {
@@ -79,7 +84,7 @@ def result_seq(page: Any) -> int:
 
 
 def wait_result(page: Any, after: int = 0, status: str = "current") -> None:
-    """Wait until the results panel shows `status` (and, for current, a render newer than `after`)."""
+    """Wait until the results panel shows `status` (for current: a render newer than `after`)."""
     page.wait_for_function(
         """([after, status]) => {
             const r = document.querySelector('#results');

@@ -29,7 +29,8 @@ def serious_violations(page):
     found = page.evaluate("""async () => {
         const r = await axe.run(document, {resultTypes: ['violations']});
         return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> ' + v.nodes.map(n => n.target.join(' ')).join(', '));
+            .map(v => v.id + ': ' + v.help + ' -> '
+                      + v.nodes.map(n => n.target.join(' ')).join(', '));
     }""")
     return found
 
@@ -64,21 +65,24 @@ def test_keyboard_only_use(site, page):
     assert page.evaluate("() => document.activeElement.dataset.field") == "name"
     page.keyboard.type("by keyboard")
     wait_result(page, after=seq)
-    page.wait_for_function("() => [...document.querySelectorAll('.point h3')].some(h => h.textContent === 'by keyboard')", timeout=10_000)
+    page.wait_for_function("""() => [...document.querySelectorAll('.point h3')]
+                               .some(h => h.textContent === 'by keyboard')""", timeout=10_000)
     page.focus("#custom-points li:last-child .remove")
     page.keyboard.press("Space")
     assert page.locator("#custom-points li").count() == 1
 
 
 def test_touch_targets_are_large_enough(browser, site):
-    ctx = browser.new_context(viewport={"width": 360, "height": 740}, has_touch=True, is_mobile=True)
+    ctx = browser.new_context(viewport={"width": 360, "height": 740}, has_touch=True,
+                              is_mobile=True)
     page = ctx.new_page()
     page.goto(site.url + case_fragment(CASES["oblique-progressive"]))
     wait_result(page)
     small = page.evaluate("""() => [...document.querySelectorAll('input, button, select, summary')]
         .filter(e => e.offsetParent !== null && e.type !== 'checkbox' && e.type !== 'file')
         .map(e => [e.id || e.dataset.field || e.textContent.trim(), e.getBoundingClientRect()])
-        .filter(([, r]) => r.height < 44 || r.width < 44).map(([n, r]) => n + ' ' + r.width + 'x' + r.height)""")
+        .filter(([, r]) => r.height < 44 || r.width < 44)
+        .map(([n, r]) => n + ' ' + r.width + 'x' + r.height)""")
     checkbox_rows = page.evaluate("""() => [...document.querySelectorAll('label.check')]
         .map(e => e.getBoundingClientRect().height)""")
     ctx.close()

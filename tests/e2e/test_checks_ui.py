@@ -644,6 +644,8 @@ def test_screenshots(looks, width, height):
     page = looks
     SCREENS.mkdir(exist_ok=True)
     page.set_viewport_size({"width": width, "height": height})
+    for close in page.locator(".notice .close").all():      # passing notices would hide the screen
+        close.click()
     for screen in ("verify", "readers", "deviation"):
         open_screen(page, screen)
         page.wait_for_timeout(200)

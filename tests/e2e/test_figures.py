@@ -20,7 +20,8 @@ def test_typed_case_matches_cli(site, page):
     typed = {
         "#right-sphere": "+1.75", "#right-cylinder": "-1.25", "#right-axis": "35",
         "#right-add": "2.25", "#right-prism": "1 BU",
-        "#left-sphere": "−0.50", "#left-cylinder": "-0.75", "#left-axis": "150",
+        "#left-sphere": "\u22120.50",                    # a typographic minus sign
+        "#left-cylinder": "-0.75", "#left-axis": "150",
         "#left-add": "2.25",
         "#right-pd": "31,5", "#left-pd": "32", "#right-height": "19", "#left-height": "19",
         "#reading-depth": "12", "#frame-a": "51", "#frame-dbl": "19", "#frame-ed": "54",
@@ -35,7 +36,8 @@ def test_typed_case_matches_cli(site, page):
     row.locator("[data-field='left.up_mm']").fill("-2.5")
     wait_result(page)
     doc = address_case(page)
-    assert doc["right"] == {"sphere": 1.75, "cylinder": -1.25, "axis": 35, "add": 2.25, "prism": "1 BU"}
+    assert doc["right"] == {"sphere": 1.75, "cylinder": -1.25, "axis": 35, "add": 2.25,
+                            "prism": "1 BU"}
     assert doc["left"] == {"sphere": -0.5, "cylinder": -0.75, "axis": 150, "add": 2.25}
     assert doc["fitting"] == {"right": {"mono_pd_mm": 31.5, "height_mm": 19},
                               "left": {"mono_pd_mm": 32, "height_mm": 19},

@@ -10,10 +10,18 @@ import shutil
 import urllib.error
 import urllib.request
 
-import build
 import pytest
 from conftest import Site
-from e2e_support import CASES, address_case, assert_figures_match, case_fragment, cli_evaluate, wait_result
+from e2e_support import (
+    CASES,
+    address_case,
+    assert_figures_match,
+    case_fragment,
+    cli_evaluate,
+    wait_result,
+)
+
+import build
 
 
 @pytest.fixture
@@ -89,7 +97,7 @@ def test_update_waits_for_the_user_then_replaces_the_cache(context, own_site, wa
     page.evaluate("() => navigator.serviceWorker.getRegistration().then((r) => r.update())")
     page.wait_for_selector(".notice:has-text('new version')")
     # The new cache is complete before anything is dropped; the old one still serves.
-    assert sorted(cache_names(page)) == sorted(first + [f"prism-desk-{version}"])
+    assert sorted(cache_names(page)) == sorted([*first, f"prism-desk-{version}"])
 
     with page.expect_navigation():
         page.click(".notice button:has-text('Reload to update')")

@@ -8,8 +8,9 @@ import json
 import re
 import urllib.request
 
-import build
 import pytest
+
+import build
 
 EXPECTED_TYPES = {
     "": "text/html",
@@ -65,9 +66,3 @@ def test_lock_file_pins_the_wheel(dist):
     assert hashlib.sha256(wheel.read_bytes()).hexdigest() == entry["sha256"]
     assert entry["imports"] == ["pycore"]
 
-
-def test_own_assets_stay_small(dist):
-    runtime = {f"pyodide/{name}" for name in build.RUNTIME}
-    own = sum(p.stat().st_size for p in dist.rglob("*")
-              if p.is_file() and p.relative_to(dist).as_posix() not in runtime)
-    assert own <= 300 * 1024, f"own assets {own} bytes"
