@@ -190,8 +190,12 @@ def describe_frame(case: Case, frame: Frame | None) -> dict[str, Any] | None:
     return result
 
 
-def evaluate(case: Case) -> dict[str, Any]:
-    """The full result for a case (see docs/case-format.md, "Output")."""
+def evaluate(case: Case, further_sections: bool = True) -> dict[str, Any]:
+    """The full result for a case (see docs/case-format.md, "Output").
+
+    ``further_sections=False`` leaves out the registered further sections (reading
+    zone, remedies, verification): the points, eyes, fitting and frame only.
+    """
     points = [evaluate_point(case, point) for point in resolve_points(case)]
     result: dict[str, Any] = {
         "points": points,
@@ -200,7 +204,7 @@ def evaluate(case: Case) -> dict[str, Any]:
         "frame": describe_frame(case, case.frame),
         "cautions": list(CAUTIONS),
     }
-    for key, evaluator in EXTRA_RESULTS.items():
+    for key, evaluator in (EXTRA_RESULTS.items() if further_sections else ()):
         section = evaluator(case, result)
         if section is not None:
             result[key] = section

@@ -57,7 +57,7 @@ class ReadingZoneOptions:
     lower_centres_mm: float | None = None
     map_depth_mm: float | None = None
     map_half_width_mm: float = 10.0
-    map_step_mm: float = 1.0
+    map_step_mm: float = 2.0
 
     def __post_init__(self) -> None:
         in_range(self.threshold, "threshold", 0.1, 10, "prism dioptres")

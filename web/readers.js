@@ -22,7 +22,7 @@ const dioptresFig = (v) => signed(2)(v) + " D";
 export function createReadersScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- the patient
   const form = el("form", { class: "check-inputs-part", id: "rd-form", novalidate: "", autocomplete: "off" });
-  const pdKind = selectField({ id: "rd-pd-kind", label: "PD measured as", options: PD_KINDS });
+  const pdKind = selectField({ id: "rd-pd-kind", label: "PD measured as", options: PD_KINDS, wide: true });
   pdKind.querySelector("select").removeAttribute("data-path");
   const distancePd = field({ id: "rd-distance-pd", label: "Distance PD", hint: "mm", path: "wearer.distance_pd_mm" });
   const nearPd = field({ id: "rd-near-pd", label: "Near PD", hint: "mm, as measured at near", path: "wearer.near_pd_mm" });
@@ -255,6 +255,8 @@ export function createReadersScreen({ messenger, firstResult }) {
     save("readers-undo", undo);
     drawStock();
     drawHandout(`Handed out one pair of ${undo.id}; ${undo.count_after} left on the shelf.`);
+    handoutBar.querySelector("#rd-undo").focus();  // the button pressed is redrawn; Undo is the next step
+    handoutBar.scrollIntoView({ block: "nearest" });
     calc.schedule(0);
   }
 
@@ -272,11 +274,12 @@ export function createReadersScreen({ messenger, firstResult }) {
     save("readers-undo", null);
     drawStock();
     drawHandout(`Put one pair of ${id} back on the shelf.`);
+    handoutBar.querySelector("p").focus();
     calc.schedule(0);
   }
 
   function drawHandout(text) {
-    const parts = [el("p", { text })];
+    const parts = [el("p", { text, tabindex: "-1" })];
     if (undo) {
       const again = button("Undo", { id: "rd-undo", class: "secondary", "aria-label": `Undo: put one pair of ${undo.id} back` });
       again.addEventListener("click", undoHandOut);
