@@ -47,8 +47,9 @@ def near_horizontal_power(case: Case, eye: Eye) -> float:
     the lens is a progressive."""
     lens = case.lens(eye)
     power = lens.power.xx
-    if (case.fitting is not None and lens.add and lens.segment is not None
-            and -case.fitting.reading_depth_mm <= lens.segment.top_mm) or (lens.add and lens.progressive is not None):
+    in_segment = (case.fitting is not None and lens.segment is not None
+                  and -case.fitting.reading_depth_mm <= lens.segment.top_mm)
+    if lens.add and (in_segment or lens.progressive is not None):
         power += lens.add
     return power
 

@@ -344,7 +344,10 @@ export class Calculation {
       holder.classList.add("invalid");
       holder.append(note);
     } else {
-      (input.closest(".grid") || input.parentElement).after(note);
+      // In a right/left grid: right under the row the input is on.
+      let last = input;
+      while (last.nextElementSibling && last.nextElementSibling.tagName === "INPUT") last = last.nextElementSibling;
+      last.after(note);
     }
     this.marked.push(input);
   }
