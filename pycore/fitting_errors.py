@@ -40,7 +40,7 @@ _KINDS: dict[str, tuple[tuple[Eye, ...], tuple[float, float]]] = {
 
 def _describe(kind: str, error: float) -> str:
     amount = f"{abs(error):g} mm"
-    if kind.endswith("height"):
+    if kind.endswith(("height", "heights")):
         which = "both lenses" if kind == "both_heights" else f"the {kind.split('_')[0]} lens"
         return f"{which} fitted {amount} too {'high' if error > 0 else 'low'}"
     eye = kind.split("_")[0]

@@ -100,6 +100,8 @@ class ReadingGeometry:
             "reading_point": {eye: reading.on(eye).as_dict() for eye in EYES},
             "distance_point": {eye: distance.on(eye).as_dict() for eye in EYES},
             "fitting_assumed": self.fitting_assumed,
+            "mono_pd_mm": {"right": self.fitting.right.mono_pd_mm,
+                           "left": self.fitting.left.mono_pd_mm},
             "working_distance_mm": self.fitting.working_distance_mm,
         }
 

@@ -65,7 +65,7 @@ function keyFigures(result) {
       factRow("Reading drop", fig(result, `${geometry}.reading_drop_mm`, mm), " below the primary position; near inset R ",
         fig(result, `${geometry}.near_inset_mm.right`, mm), " · L ", fig(result, `${geometry}.near_inset_mm.left`, mm)),
       factRow("Worn as", fig(result, `${geometry}.worn_as`, (v) => WORN_WORDS[v] || v),
-        zone.geometry.fitting_assumed ? el("span", { class: "zwarn-inline" }, " · no fitting given: PDs of 32/32 mm assumed (",
+        zone.geometry.fitting_assumed ? el("span", { class: "zwarn-inline" }, " · no fitting given: the core assumed PDs (",
           fig(result, `${geometry}.fitting_assumed`, () => "assumed"), ")") : null)),
   ];
 }
