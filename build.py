@@ -24,6 +24,7 @@ import socket
 import struct
 import subprocess
 import sys
+import tempfile
 import zlib
 from pathlib import Path
 from typing import Any
@@ -98,9 +99,8 @@ def build_wheel() -> Path:
     found = sorted(out.glob("*.whl")) if out.is_dir() else []
     if found:
         return found[0]
-    tmp = CACHE / "wheel-tmp"
-    shutil.rmtree(tmp, ignore_errors=True)
-    tmp.mkdir(parents=True)
+    CACHE.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix="wheel-tmp-", dir=CACHE))   # several builds may overlap
     env = dict(os.environ, SOURCE_DATE_EPOCH="1577836800")   # reproducible zip timestamps
     cmd = [sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(tmp), str(ROOT)]
     try:   # a recent setuptools here spares the isolated build environment
@@ -113,8 +113,10 @@ def build_wheel() -> Path:
     wheels = sorted(tmp.glob("*.whl"))
     if len(wheels) != 1:
         sys.exit(f"build.py: expected one wheel, found {wheels}")
-    shutil.rmtree(out, ignore_errors=True)
-    tmp.rename(out)
+    try:
+        tmp.rename(out)
+    except OSError:   # another build finished the same wheel first
+        shutil.rmtree(tmp, ignore_errors=True)
     return out / wheels[0].name
 
 
@@ -233,9 +235,9 @@ def manifest() -> dict[str, Any]:
 def build() -> None:
     ensure_npm()
     wheel = build_wheel()
-    tmp = DIST.with_name("dist.tmp")
-    shutil.rmtree(tmp, ignore_errors=True)
-    (tmp / "pyodide").mkdir(parents=True)
+    CACHE.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix="dist-", dir=CACHE.parent))   # swapped in whole at the end
+    (tmp / "pyodide").mkdir()
     (tmp / "wheels").mkdir()
     for name in RUNTIME:
         shutil.copyfile(PYODIDE / name, tmp / "pyodide" / name)
@@ -250,8 +252,14 @@ def build() -> None:
     (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
     write_icons(tmp / "icons")
     version, count = write_service_worker(tmp)
-    shutil.rmtree(DIST, ignore_errors=True)
-    tmp.rename(DIST)
+    tmp.chmod(0o755)
+    for _ in range(3):   # another build may swap its own dist/ in meanwhile
+        shutil.rmtree(DIST, ignore_errors=True)
+        with contextlib.suppress(OSError):
+            tmp.rename(DIST)
+            break
+    else:
+        sys.exit("build.py: could not replace dist/")
     print(f"build.py: dist/ ready, version {version}, {count} precached files")
 
 
