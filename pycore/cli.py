@@ -92,7 +92,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    from . import extensions  # noqa: F401  (registers the further sections and commands)
+    from . import command_extensions  # noqa: F401  (registers further sections and commands)
 
     parser = build_parser()
     args = parser.parse_args(argv)

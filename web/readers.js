@@ -105,9 +105,8 @@ export function createReadersScreen({ messenger, firstResult }) {
         el("span", { class: "row-number", "aria-hidden": "true", text: String(i + 1) }),
         ...COLUMNS.map((c) => stockCell(i, c, row[c.key])), remove);
     }));
-    const pairs = rows.reduce((n, r) => n + (/^\d+$/.test(String(r.count ?? "").trim()) ? Number(r.count) : 0), 0);
     root.querySelector("#rd-stock-summary").textContent = rows.length
-      ? `${rows.length} kind${rows.length === 1 ? "" : "s"} · ${pairs} pair${pairs === 1 ? "" : "s"} listed` : "empty";
+      ? `${rows.length} kind${rows.length === 1 ? "" : "s"} of pair listed` : "none listed yet";
   }
 
   function keepStock() {

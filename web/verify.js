@@ -139,9 +139,21 @@ export function createVerifyScreen({ messenger, firstResult }) {
       form.querySelector(`#vf-ord-${eye}-height`).value = fit && fit.height_mm !== undefined ? String(fit.height_mm) : "";
       filled.push(EYE[eye].toLowerCase());
     }
-    if (filled.length) form.querySelector("#vf-ordered-pd").value = "";
+    let design = "";
+    if (filled.length) {
+      form.querySelector("#vf-ordered-pd").value = "";
+      // The lens type follows the case's lenses: a progressive design or a segment.
+      const lenses = ["right", "left"].map((eye) => (doc[eye] && typeof doc[eye] === "object" ? doc[eye] : {}));
+      const progressive = lenses.find((lens) => lens.progressive && typeof lens.progressive === "object");
+      const type = progressive ? "progressive" : lenses.some((lens) => lens.segment) ? "multifocal" : "single_vision";
+      form.querySelector("#vf-lens-type").value = type;
+      const thinning = progressive ? progressive.progressive.thinning_prism_base_down : undefined;
+      form.querySelector("#vf-thinning").value = thinning === undefined ? "" : String(thinning);
+      design = `; lens type ${type.replace("_", " ")}`;
+    }
     note.textContent = filled.length
-      ? `Copied the ${filled.join(" and ")} lens from the case${doc.name ? " “" + doc.name + "”" : ""}: prescription, prism, monocular PD and height.`
+      ? `Copied the ${filled.join(" and ")} lens from the case${doc.name ? " “" + doc.name + "”" : ""}: ` +
+        `prescription, prism, monocular PD and height${design}.`
       : "The case screen has no prescription yet: enter it there first, or type the order here.";
     changed();
   });
@@ -211,8 +223,8 @@ export function createVerifyScreen({ messenger, firstResult }) {
     const others = standards.standards.map((s, k) => (k === i ? null : el("li", {},
       el("strong", {}, fig(standards, `standards.${k}.short`)), " (", fig(standards, `standards.${k}.certainty`), "): ",
       fig(standards, `standards.${k}.source`))));
-    box.push(el("details", { class: "breakdown" },
-      el("summary", { text: "Sources of the other tables" }), el("ul", { class: "other-tables" }, ...others.filter(Boolean))));
+    box.push(el("p", { class: "other-tables-head", text: "The other tables and their sources:" }),
+      el("ul", { class: "other-tables" }, ...others.filter(Boolean)));
     standardInfo.replaceChildren(...box);
   }
 

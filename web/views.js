@@ -84,4 +84,11 @@ export function show(name, { focus = false } = {}) {
   window.scrollTo(0, 0);
 }
 
-show(loadSaved("screen", "case"));
+// A case opened from a link or bookmark (#case=...) shows the case screen;
+// otherwise (a reload, the installed app) the screen last used.
+const arrival = performance.getEntriesByType("navigation")[0];
+const fromLink = arrival && arrival.type === "navigate" && location.hash.startsWith("#case=");
+show(fromLink ? "case" : loadSaved("screen", "case"));
+window.addEventListener("hashchange", () => {
+  if (location.hash.startsWith("#case=")) show("case");
+});

@@ -30,14 +30,17 @@ STORE = "prism-desk.checks."
 VERIFY_FIELDS = {
     "#vf-ord-right-rx": "+1.75 / -1.25 x 35", "#vf-ord-right-prism": "1 BU",
     "#vf-ord-right-pd": "32", "#vf-ord-right-height": "20",
-    "#vf-ord-left-rx": "-0.50 / -0.75 x 150", "#vf-ord-left-pd": "31,5", "#vf-ord-left-height": "20",
-    "#vf-mes-right-prism": "1.25 BU 0.25 BI", "#vf-mes-right-pd": "32.5", "#vf-mes-right-height": "20.5",
+    "#vf-ord-left-rx": "-0.50 / -0.75 x 150", "#vf-ord-left-pd": "31,5",
+    "#vf-ord-left-height": "20",
+    "#vf-mes-right-prism": "1.25 BU 0.25 BI", "#vf-mes-right-pd": "32.5",
+    "#vf-mes-right-height": "20.5",
     "#vf-mes-left-prism": "0.25 BO", "#vf-mes-left-pd": "31", "#vf-mes-left-height": "20",
 }
 VERIFY_REQUEST = {
     "standard": "ansi-z80.1-2015", "lens_type": "single_vision", "mounting": "mounted",
     "horizontal_reading": "total",
-    "ordered": {"right": {"rx": "+1.75 / -1.25 x 35", "prism": "1 BU", "mono_pd_mm": 32, "height_mm": 20},
+    "ordered": {"right": {"rx": "+1.75 / -1.25 x 35", "prism": "1 BU", "mono_pd_mm": 32,
+                          "height_mm": 20},
                 "left": {"rx": "-0.50 / -0.75 x 150", "mono_pd_mm": 31.5, "height_mm": 20}},
     "measured": {"right": {"prism": "1.25 BU 0.25 BI", "mono_pd_mm": 32.5, "height_mm": 20.5},
                  "left": {"prism": "0.25 BO", "mono_pd_mm": 31, "height_mm": 20}},
@@ -53,7 +56,8 @@ READERS_FIELDS = {"#rd-rx-right-rx": "+2.50 DS", "#rd-rx-left-rx": "+2.25 / -0.2
                   "#rd-distance-pd": "64", "#rd-working": "400"}
 READERS_WEARER = {"right": {"rx": "+2.50 DS"}, "left": {"rx": "+2.25 / -0.25 x 90"},
                   "distance_pd_mm": 64, "working_distance_mm": 400}
-STOCK_SENT = [{key: (value if key in ("id", "frame_size") else float(value) if "." in value else int(value))
+STOCK_SENT = [{key: (value if key in ("id", "frame_size")
+                     else float(value) if "." in value else int(value))
                for key, value in row.items() if value != ""} for row in STOCK]
 DEVIATION_FIELDS = {"#dv-measured": "20 BI 4 BD", "#dv-rotation": "25",
                     "#dv-lens-right-rx": "+3.00 / -1.00 x 60", "#dv-lens-right-prism": "1 BU",
@@ -79,7 +83,8 @@ def cli_readers(request: dict[str, Any], tmp_path: Path) -> dict[str, Any]:
 
 def shown(page: Any, action: str) -> list[tuple[str, str]]:
     return [tuple(pair) for pair in page.eval_on_selector_all(
-        f"[data-action='{action}'] [data-key]", "els => els.map(e => [e.dataset.key, e.dataset.value])")]
+        f"[data-action='{action}'] [data-key]",
+        "els => els.map(e => [e.dataset.key, e.dataset.value])")]
 
 
 def assert_same(pairs: list[tuple[str, str]], expected: Any) -> set[str]:
@@ -159,7 +164,8 @@ def start_readers(page: Any) -> None:
     open_screen(page, "readers")
     page.select_option("#rd-pd-kind", "distance")
     fill(page, READERS_FIELDS)
-    wait_request(page, "#rd-results", lambda r: r.get("wearer") == READERS_WEARER and r.get("stock") == STOCK_SENT)
+    wait_request(page, "#rd-results",
+                 lambda r: r.get("wearer") == READERS_WEARER and r.get("stock") == STOCK_SENT)
 
 
 @pytest.fixture(scope="module")
@@ -200,8 +206,11 @@ def test_screens_switch_by_keyboard_and_are_remembered(page):
     page.reload()
     engine_ready(page)
     assert page.is_visible("#screen-deviation") and not page.is_visible("#case-form")
-    open_screen(page, "case")
-    assert page.is_visible("#case-form")
+    # A case link opened meanwhile shows the case screen.
+    page.goto(page.url.split("#")[0] + case_fragment(CASES["own-points-only"]))
+    page.wait_for_selector("#case-form", state="visible")
+    assert page.get_attribute("#tab-case", "aria-current") == "page"
+    assert not page.is_visible("#screen-deviation")
 
 
 # ---------------------------------------------------------------- pair check
@@ -221,7 +230,8 @@ def test_verify_figures_match_cli(page):
     keys = assert_same(shown(page, "verify"), expected)
     assert "result" in keys and "standard.short" in keys
     for i, verdict in enumerate(expected["verdicts"]):
-        for field in ("label", "status", "value", "limit", "margin", "rule", "applied", "source", "certainty"):
+        for field in ("label", "status", "value", "limit", "margin", "rule", "applied", "source",
+                      "certainty"):
             assert f"verdicts.{i}.{field}" in keys, f"verdicts.{i}.{field} not shown"
         if verdict["criterion"] == "horizontal":
             assert f"verdicts.{i}.reading" in keys
@@ -237,10 +247,10 @@ def test_verify_figures_match_cli(page):
     assert request["horizontal_reading"] == "per_eye"
     expected = cli("verify", request)
     keys = assert_same(shown(page, "verify"), expected)
-    horizontal = next(i for i, v in enumerate(expected["verdicts"]) if v["criterion"] == "horizontal")
-    assert expected["verdicts"][horizontal]["reading"] == "per_eye"
-    assert {f"verdicts.{horizontal}.readings.per_eye.value", f"verdicts.{horizontal}.readings.total.value",
-            f"verdicts.{horizontal}.readings.per_eye.right"} <= keys
+    h = next(i for i, v in enumerate(expected["verdicts"]) if v["criterion"] == "horizontal")
+    assert expected["verdicts"][h]["reading"] == "per_eye"
+    assert {f"verdicts.{h}.readings.per_eye.value", f"verdicts.{h}.readings.total.value",
+            f"verdicts.{h}.readings.per_eye.right"} <= keys
     page.select_option("#vf-reading", "total")
 
 
@@ -260,7 +270,8 @@ def test_verify_standards_are_listed_with_sources_and_unverified_flagged(page):
     iso = next(i for i, s in enumerate(listed["standards"]) if s["id"] == "iso-21987-2009")
     assert f"standards.{iso}.source" in keys
     for j, _ in enumerate(listed["standards"][iso]["rows"]):
-        assert f"standards.{iso}.rows.{j}.source" in keys and f"standards.{iso}.rows.{j}.bands.0.limit" in keys
+        row = f"standards.{iso}.rows.{j}"
+        assert f"{row}.source" in keys and f"{row}.bands.0.limit" in keys
     # The verdict: flagged, and every figure still the CLI's.
     expected = cli("verify", request_of(page, "#vf-results"))
     assert expected["unverified"] is True
@@ -283,7 +294,8 @@ def test_verify_unmounted_lens(page):
     wait_for(page, "#vf-results", before)
     request = request_of(page, "#vf-results")
     assert request["mounting"] == "unmounted" and set(request["ordered"]) == {"right"}
-    assert request["measured"] == {"right": {"prism": "0.5 BU", "offset": {"in_mm": 1, "up_mm": -0.5}}}
+    assert request["measured"] == {"right": {"prism": "0.5 BU",
+                                             "offset": {"in_mm": 1, "up_mm": -0.5}}}
     expected = cli("verify", request)
     keys = assert_same(shown(page, "verify"), expected)
     assert {"verdicts.0.options.0.value", "verdicts.0.options.1.value", "verdicts.0.eye"} & keys
@@ -306,6 +318,7 @@ def test_verify_takes_the_case_prescription(page):
     assert page.input_value("#vf-ord-left-rx") == "-1 DS"
     assert page.input_value("#vf-ord-left-pd") == "31.5"
     assert "Copied" in page.text_content("#vf-case-note")
+    assert page.input_value("#vf-lens-type") == "single_vision"   # no segment, no progressive
     before = seq(page, "#vf-results")
     page.fill("#vf-mes-right-prism", "1.5 BU 2 BI")
     page.fill("#vf-mes-left-prism", "0.25 BD")
@@ -351,8 +364,9 @@ def test_readers_figures_match_cli(page, tmp_path):
     keys = assert_same(shown(page, "readers_rank"), expected)
     assert expected["ranked"], "the test stock should suit this wearer"
     for i, _ in enumerate(expected["ranked"]):
-        for field in ("id", "rank", "count", "prism.right.in_words", "prism.right.base_in", "prism.left.base_in",
-                      "net.horizontal_in_words", "checks.0.value", "checks.0.limit", "checks.0.margin"):
+        for field in ("id", "rank", "count", "prism.right.in_words", "prism.right.base_in",
+                      "prism.left.base_in", "net.horizontal_in_words", "checks.0.value",
+                      "checks.0.limit", "checks.0.margin"):
             assert f"ranked.{i}.{field}" in keys, f"ranked.{i}.{field} not shown"
     assert page.locator("#rd-results .pair-card").count() == len(expected["ranked"])
     # The low-resource limits: sources shown, figures the CLI's again.
@@ -421,8 +435,9 @@ def test_readers_stock_editing_and_bad_value(page, tmp_path):
     fill(page, {f"#rd-stock-{rows}-id": "R275-62", f"#rd-stock-{rows}-power": "2.75",
                 f"#rd-stock-{rows}-oc_distance_mm": "62"})
     page.fill(f"#rd-stock-{rows}-count", "2")
-    page.wait_for_function("n => JSON.parse(document.querySelector('#rd-results').dataset.request).stock.length === n",
-                           arg=rows + 1)
+    page.wait_for_function(
+        "n => JSON.parse(document.querySelector('#rd-results').dataset.request).stock.length === n",
+        arg=rows + 1)
     wait_for(page, "#rd-results")
     assert_same(shown(page, "readers_rank"), cli_readers(request_of(page, "#rd-results"), tmp_path))
     good = request_of(page, "#rd-results")
@@ -452,13 +467,16 @@ def test_readers_csv_import_keeps_good_rows_and_names_bad_ones(page, tmp_path):
     page.wait_for_selector("#rd-import-report li")
     report = page.locator("#rd-import-report li")
     assert report.count() == 1
-    assert report.get_attribute("data-line") == "3" and report.get_attribute("data-field") == "line 3.power"
+    assert report.get_attribute("data-line") == "3"
+    assert report.get_attribute("data-field") == "line 3.power"
     assert "Line 3, power" in report.text_content()
     message = page.text_content("#rd-stock-message")
-    assert "Imported 2 pairs" in message and "1 added, 1 updated" in message and "1 row was refused" in message
+    assert "Imported 2 pairs" in message and "1 added, 1 updated" in message
+    assert "1 row was refused" in message
     ids = [page.input_value(f"#rd-stock-{i}-id") for i in range(len(STOCK) + 1)]
     assert ids == [r["id"] for r in STOCK] + ["R350-64"]
-    assert stock_count(page, 0) == "7" and page.input_value(f"#rd-stock-{len(STOCK)}-power") == "3.5"
+    assert stock_count(page, 0) == "7"
+    assert page.input_value(f"#rd-stock-{len(STOCK)}-power") == "3.5"
     wait_for(page, "#rd-results", before)
     assert_same(shown(page, "readers_rank"), cli_readers(request_of(page, "#rd-results"), tmp_path))
     # Export: the core's CSV of the list as it is now.
@@ -475,7 +493,6 @@ def test_deviation_figures_match_cli(page):
     page.click("#dv-clear")
     page.check("#dv-fix-left")
     page.click("#dv-points summary")
-    before = seq(page, "#dv-results")
     fill(page, DEVIATION_FIELDS)
     fill(page, {"#dv-pt-right-in": "2", "#dv-pt-right-up": "-3"})
     wanted = {"measured": "20 BI 4 BD", "centre_of_rotation_mm": 25, "fixating": "left",
@@ -486,10 +503,11 @@ def test_deviation_figures_match_cli(page):
     keys = assert_same(shown(page, "deviation"), expected)
     for key in ("at_eye.in_words", "at_eye.base_in", "at_eye.base_up", "measured.in_words",
                 "meridians.horizontal.at_eye", "meridians.vertical.factor", "explanation.0",
-                "spectacle_prism.right.in_words", "spectacle_prism.right.base_up", "spectacle_prism.net.vertical_in_words",
+                "spectacle_prism.right.in_words", "spectacle_prism.right.base_up",
+                "spectacle_prism.net.vertical_in_words",
                 "lens_that_counts.written", "lens_effect.amount"):
         assert key in keys, f"{key} not shown"
-    for i, caution in enumerate(expected["cautions"]):
+    for i, _ in enumerate(expected["cautions"]):
         assert f"cautions.{i}" in keys
     assert any("stacked" in c for c in expected["cautions"])
     assert "stacked" in page.text_content("#dv-results .check-cautions")
@@ -541,7 +559,7 @@ def test_readers_work_offline(context, own_site, tmp_path):
     page.goto(own_site.url)
     engine_ready(page)
     start_readers(page)
-    page.wait_for_selector("body[data-offline=ready]")     # offered after this screen's first answer
+    page.wait_for_selector("body[data-offline=ready]")   # offered after this screen's first answer
     page.wait_for_function("() => navigator.serviceWorker.controller !== null")
     own_site.stop()
     with pytest.raises(urllib.error.URLError):
@@ -552,7 +570,8 @@ def test_readers_work_offline(context, own_site, tmp_path):
     engine_ready(offline)
     offline.wait_for_selector("#screen-readers:not([hidden])")      # the screen last used
     wait_for(offline, "#rd-results")
-    assert_same(shown(offline, "readers_rank"), cli_readers(request_of(offline, "#rd-results"), tmp_path))
+    expected = cli_readers(request_of(offline, "#rd-results"), tmp_path)
+    assert_same(shown(offline, "readers_rank"), expected)
     first = offline.get_attribute("#rd-results .pair-card", "data-id")
     row = next(i for i, r in enumerate(STOCK) if r["id"] == first)
     before = seq(offline, "#rd-results")
@@ -593,7 +612,8 @@ def serious_violations(page: Any) -> list[str]:
     return page.evaluate("""async () => {
         const r = await axe.run(document, {resultTypes: ['violations']});
         return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> ' + v.nodes.map(n => n.target.join(' ')).join(', '));
+            .map(v => v.id + ': ' + v.help + ' -> ' +
+                      v.nodes.map(n => n.target.join(' ')).join(', '));
     }""")
 
 
@@ -631,11 +651,13 @@ def test_touch_targets_on_the_check_screens(looks):
     page.set_viewport_size({"width": 360, "height": 740})
     for screen in ("verify", "readers", "deviation"):
         open_screen(page, screen)
-        small = page.evaluate("""() => [...document.querySelectorAll('input, button, select, summary')]
+        small = page.evaluate("""() => [
+            ...document.querySelectorAll('input, button, select, summary')]
             .filter(e => e.offsetParent !== null && e.type !== 'file')
-            .map(e => [e.id || e.textContent.trim(), e.type === 'radio' ? e.closest('label').getBoundingClientRect()
-                                                                         : e.getBoundingClientRect()])
-            .filter(([, r]) => r.height < 44 || r.width < 44).map(([n, r]) => n + ' ' + r.width + 'x' + r.height)""")
+            .map(e => [e.id || e.textContent.trim(),
+                       (e.type === 'radio' ? e.closest('label') : e).getBoundingClientRect()])
+            .filter(([, r]) => r.height < 44 || r.width < 44)
+            .map(([n, r]) => n + ' ' + r.width + 'x' + r.height)""")
         assert small == [], screen
 
 
@@ -652,14 +674,15 @@ def test_screenshots(looks, width, height):
         overflow = page.evaluate("() => document.documentElement.scrollWidth - window.innerWidth")
         assert overflow <= 0, f"{screen} scrolls sideways by {overflow}px at {width}px"
         page.screenshot(path=str(SCREENS / f"checks-{screen}-{width}x{height}.png"))
-        page.screenshot(path=str(SCREENS / f"checks-{screen}-{width}x{height}-full.png"), full_page=True)
+        page.screenshot(path=str(SCREENS / f"checks-{screen}-{width}x{height}-full.png"),
+                        full_page=True)
         results = page.locator(f"#screen-{screen} .check-results")
         results.scroll_into_view_if_needed()
         page.screenshot(path=str(SCREENS / f"checks-{screen}-{width}x{height}-results.png"))
     open_screen(page, "verify")
     page.fill("#vf-mes-left-prism", "0.25 BX")
     wait_for(page, "#vf-results", status="stale")
-    page.locator("#vf-mes-left-prism").scroll_into_view_if_needed()
+    page.locator("#vf-mes-left-prism-error").scroll_into_view_if_needed()
     page.screenshot(path=str(SCREENS / f"checks-verify-{width}x{height}-bad-input.png"))
     page.emulate_media(media="print")
     page.screenshot(path=str(SCREENS / f"checks-verify-{width}x{height}-print.png"), full_page=True)
