@@ -3,7 +3,7 @@
 Accepted prescriptions: ``+2.00 / -0.75 x 180``, ``-1.25 DS``,
 ``plano / -0.50 x 90``, ``+1.50 -0.50 x 45``, ``-2.00/-1.00x10``. Every
 power other than zero carries its sign: an unsigned power is refused, as a
-missing sign is a classic transcription error.
+missing sign is a classic copying error.
 
 Accepted prisms (one or more terms, which add as vectors): ``1.5 BU``,
 ``2 BI``, ``3 base out``, ``2.5 @ 37`` or ``2.5 at 37`` (360-degree
