@@ -17,3 +17,23 @@ DURHAM_BIFOCAL: dict[str, Any] = {
     "fitting": FITTING,
     "reading_zone": {"reading_point": "segment_top", "below_segment_top_mm": 5},
 }
+
+
+DROP = object()
+"""Passed as the value to ``changed``: remove the field instead of setting it."""
+
+
+def changed(base: dict[str, Any], path: str, value: Any) -> dict[str, Any]:
+    """A deep copy of ``base`` with the dotted ``path`` set to ``value`` (or removed)."""
+    import copy
+
+    doc = copy.deepcopy(base)
+    node: Any = doc
+    parts = path.split(".")
+    for part in parts[:-1]:
+        node = node.setdefault(part, {})
+    if value is DROP:
+        node.pop(parts[-1], None)
+    else:
+        node[parts[-1]] = value
+    return doc

@@ -13,6 +13,7 @@ from typing import Any
 
 import numpy as np
 import pytest
+from casebook import DROP, changed
 from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -129,19 +130,10 @@ def test_sign_of_the_change_follows_the_lens(power: float, measured: float, d_mm
 
 
 def with_(path: str, value: Any) -> dict[str, Any]:
-    doc = copy.deepcopy(GOOD)
-    node: Any = doc
-    parts = path.split(".")
-    for part in parts[:-1]:
-        node = node.setdefault(part, {})
-    if value is _DROP:
-        node.pop(parts[-1], None)
-    else:
-        node[parts[-1]] = value
-    return doc
+    return changed(GOOD, path, value)
 
 
-_DROP = object()
+_DROP = DROP
 
 CATALOGUE: list[tuple[str, Any, str]] = [
     ("no measured", with_("measured", _DROP), "measured"),

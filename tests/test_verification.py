@@ -14,6 +14,7 @@ import json
 from typing import Any
 
 import pytest
+from casebook import DROP, changed
 from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -277,19 +278,10 @@ GOOD = pair("-2.00 DS", "-2.00 DS", {"right": {"prism": "0.25 BU"}})
 
 
 def with_(path: str, value: Any, base: dict[str, Any] | None = None) -> dict[str, Any]:
-    doc = copy.deepcopy(base if base is not None else GOOD)
-    node: Any = doc
-    parts = path.split(".")
-    for part in parts[:-1]:
-        node = node.setdefault(part, {})
-    if value is _DROP:
-        node.pop(parts[-1], None)
-    else:
-        node[parts[-1]] = value
-    return doc
+    return changed(base if base is not None else GOOD, path, value)
 
 
-_DROP = object()
+_DROP = DROP
 UNMOUNTED = {"mounting": "unmounted", "ordered": {"right": {"rx": "-2.00 DS"}},
              "measured": {"right": {"prism": "0.2 BI"}}}
 
