@@ -228,10 +228,8 @@ def read_prism(value: Any, path: str, eye: Eye) -> Prism:
     obj = _object(value, path, "a prism")
     if "amount" in obj or "base_360" in obj:
         _only_keys(obj, path, ("amount", "base_360"))
-        for key in ("amount", "base_360"):
-            if key not in obj:
-                raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: a prism by "
-                                                 "direction needs amount and base_360.")
+        _require(obj, path, ("amount", "base_360"),
+                 "a prism by direction needs amount and base_360")
         amount = finite_number(obj["amount"], f"{path}.amount", "prism dioptres")
         angle = finite_number(obj["base_360"], f"{path}.base_360", "degrees")
         return _within(lambda: Prism.from_direction(amount, angle, eye), path)
@@ -305,10 +303,8 @@ def _read_progressive(value: Any, path: str) -> Progressive:
 def _read_slab_off(value: Any, path: str) -> SlabOff:
     obj = _object(value, path, "a slab-off")
     _only_keys(obj, path, ("base_up", "line_mm"))
-    for key in ("base_up", "line_mm"):
-        if key not in obj:
-            raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: a slab-off needs "
-                                             "base_up (prism dioptres) and line_mm (mm).")
+    _require(obj, path, ("base_up", "line_mm"),
+             "a slab-off needs base_up (prism dioptres) and line_mm (mm)")
     base_up = finite_number(obj["base_up"], f"{path}.base_up", "prism dioptres")
     line = finite_number(obj["line_mm"], f"{path}.line_mm", "mm")
     return _within(lambda: SlabOff(base_up, line), path)
@@ -348,10 +344,7 @@ def read_fitting(value: Any, path: str) -> Fitting:
 def read_frame(value: Any, path: str) -> Frame:
     obj = _object(value, path, "a frame")
     _only_keys(obj, path, ("a_mm", "dbl_mm", "ed_mm", "b_mm"))
-    for key in ("a_mm", "dbl_mm"):
-        if key not in obj:
-            raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: a frame needs its box "
-                                             "width a_mm and bridge dbl_mm.")
+    _require(obj, path, ("a_mm", "dbl_mm"), "a frame needs its box width a_mm and bridge dbl_mm")
     a = in_range(obj["a_mm"], f"{path}.a_mm", 25, 80, "mm")
     dbl = in_range(obj["dbl_mm"], f"{path}.dbl_mm", 8, 30, "mm")
     ed = in_range(obj["ed_mm"], f"{path}.ed_mm", 25, 90, "mm") if "ed_mm" in obj else None
@@ -412,6 +405,13 @@ def _object(value: Any, path: str, what: str) -> dict[str, Any]:
             type(value), "a number")
         raise CaseError(path, f"{label} must be {what} (a JSON object), not {kind}.", value)
     return value
+
+
+def _require(obj: Mapping[str, Any], path: str, keys: tuple[str, ...], why: str) -> None:
+    """Refuse the first of ``keys`` missing from ``obj``, saying ``why`` it is needed."""
+    for key in keys:
+        if key not in obj:
+            raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: {why}.")
 
 
 def _only_keys(obj: Mapping[str, Any], path: str, allowed: tuple[str, ...]) -> None:

@@ -9,9 +9,20 @@ the user's input, so it raises ``DataFileError``.
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 from functools import cache
 from importlib import resources
-from typing import Any
+from typing import Any, Protocol, TypeVar
+
+from .errors import CaseError
+
+
+class _HasId(Protocol):
+    @property
+    def id(self) -> str: ...
+
+
+T = TypeVar("T", bound=_HasId)
 
 
 class DataFileError(RuntimeError):
@@ -52,3 +63,23 @@ def need(obj: Any, key: str, kind: type | tuple[type, ...], table: str) -> Any:
 
 def _as_tuple(kind: type | tuple[type, ...]) -> tuple[type, ...]:
     return kind if isinstance(kind, tuple) else (kind,)
+
+
+def tables_by_id(prefix: str, read: Callable[[Any, str], T],
+                 leave_out: tuple[str, ...] = ()) -> dict[str, T]:
+    """Every shipped table whose name starts with ``prefix``, read by ``read(obj, name)``
+    and keyed by the value's ``id``."""
+    found: dict[str, T] = {}
+    for name in data_names():
+        if name.startswith(prefix) and name not in leave_out:
+            value = read(load_table(name), name)
+            found[value.id] = value
+    return found
+
+
+def choose(tables: dict[str, T], wanted: Any, field: str) -> T:
+    """``tables[wanted]``, or a CaseError naming ``field`` and the choices."""
+    if not isinstance(wanted, str) or wanted not in tables:
+        raise CaseError(field, f"{field} must be one of {', '.join(sorted(tables))}; "
+                               f"got {wanted!r}.", wanted)
+    return tables[wanted]

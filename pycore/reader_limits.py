@@ -16,8 +16,7 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Any
 
-from .datafiles import DataFileError, data_names, load_table, need
-from .errors import CaseError
+from .datafiles import DataFileError, choose, load_table, need, tables_by_id
 
 READER_QUANTITIES = ("horizontal_per_lens", "horizontal_total_base_out",
                      "horizontal_total_base_in", "vertical_imbalance")
@@ -79,21 +78,12 @@ class Suitability:
 @cache
 def limit_sets() -> dict[str, LimitSet]:
     """Every shipped limit set for readers, by id."""
-    sets = {}
-    for name in data_names():
-        if name.startswith(_PREFIX) and name != _SUITABILITY:
-            limits = _read_set(load_table(name), name)
-            sets[limits.id] = limits
-    return sets
+    return tables_by_id(_PREFIX, _read_set, leave_out=(_SUITABILITY,))
 
 
 def limit_set(set_id: Any, field: str = "limits") -> LimitSet:
     """The limit set ``set_id``, or a CaseError naming ``field`` and the choices."""
-    sets = limit_sets()
-    if not isinstance(set_id, str) or set_id not in sets:
-        raise CaseError(field, f"{field} must be one of {', '.join(sorted(sets))}; "
-                               f"got {set_id!r}.", set_id)
-    return sets[set_id]
+    return choose(limit_sets(), set_id, field)
 
 
 @cache

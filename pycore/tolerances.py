@@ -21,8 +21,7 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Any, Literal
 
-from .datafiles import DataFileError, data_names, load_table, need
-from .errors import CaseError
+from .datafiles import DataFileError, choose, need, tables_by_id
 
 LensType = Literal["single_vision", "multifocal", "progressive"]
 Mounting = Literal["mounted", "unmounted"]
@@ -146,21 +145,12 @@ class ToleranceTable:
 @cache
 def tolerance_tables() -> dict[str, ToleranceTable]:
     """Every shipped tolerance table, by id."""
-    tables = {}
-    for name in data_names():
-        if name.startswith(_PREFIX):
-            table = _read_table(load_table(name), name)
-            tables[table.id] = table
-    return tables
+    return tables_by_id(_PREFIX, _read_table)
 
 
 def tolerance_table(table_id: Any, field: str = "standard") -> ToleranceTable:
     """The table with id ``table_id``, or a CaseError naming ``field`` and the choices."""
-    tables = tolerance_tables()
-    if not isinstance(table_id, str) or table_id not in tables:
-        raise CaseError(field, f"{field} must be one of {', '.join(sorted(tables))}; "
-                               f"got {table_id!r}.", table_id)
-    return tables[table_id]
+    return choose(tolerance_tables(), table_id, field)
 
 
 def _read_table(obj: Any, name: str) -> ToleranceTable:

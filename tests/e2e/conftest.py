@@ -8,6 +8,7 @@ errors and console errors fail the test.
 from __future__ import annotations
 
 import os
+import shutil
 import sys
 import threading
 from collections.abc import Iterator
@@ -117,3 +118,14 @@ def context(browser: object, watch: Watch) -> Iterator[object]:
 @pytest.fixture
 def page(context: object) -> object:
     return context.new_page()
+
+
+@pytest.fixture
+def own_site(dist: Path, tmp_path: Path) -> Iterator[Site]:
+    """A copy of the built site on a server of its own, for tests that stop the server."""
+    root = tmp_path / "site"
+    shutil.copytree(dist, root)
+    served = Site(root)
+    yield served
+    if served.thread.is_alive():
+        served.stop()

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import json
 import math
-import shutil
 import subprocess
 import sys
 import urllib.error
@@ -544,16 +543,6 @@ def test_deviation_bad_input_and_case_lenses(page):
 
 
 # ---------------------------------------------------------------- offline at the clinic
-@pytest.fixture
-def own_site(dist, tmp_path):
-    root = tmp_path / "site"
-    shutil.copytree(dist, root)
-    served = Site(root)
-    yield served
-    if served.thread.is_alive():
-        served.stop()
-
-
 def test_readers_work_offline(context, own_site, tmp_path):
     page = context.new_page()
     page.goto(own_site.url)

@@ -6,12 +6,10 @@ a new release without disturbing other tests.
 
 from __future__ import annotations
 
-import shutil
 import urllib.error
 import urllib.request
 
 import pytest
-from conftest import Site
 from e2e_support import (
     CASES,
     address_case,
@@ -22,16 +20,6 @@ from e2e_support import (
 )
 
 import build
-
-
-@pytest.fixture
-def own_site(dist, tmp_path):
-    root = tmp_path / "site"
-    shutil.copytree(dist, root)
-    served = Site(root)
-    yield served
-    if served.thread.is_alive():
-        served.stop()
 
 
 def wait_offline_ready(page):
