@@ -16,6 +16,8 @@ from typing import Any, TypeVar
 from .checks import finite_number, in_range
 from .errors import CaseError
 from .eyes import EYES, Eye
+from .fields import as_object as _object
+from .fields import only_keys as _only_keys
 from .fitting import (
     DEFAULT_CENTRE_OF_ROTATION_MM,
     DEFAULT_READING_DEPTH_MM,
@@ -398,29 +400,11 @@ def read_lens_point(value: Any, path: str) -> LensPoint:
 # --------------------------------------------------------------------------- helpers
 
 
-def _object(value: Any, path: str, what: str) -> dict[str, Any]:
-    if not isinstance(value, dict):
-        label = path or "The case"
-        kind = {list: "a list", str: "text", bool: "true/false", type(None): "null"}.get(
-            type(value), "a number")
-        raise CaseError(path, f"{label} must be {what} (a JSON object), not {kind}.", value)
-    return value
-
-
 def _require(obj: Mapping[str, Any], path: str, keys: tuple[str, ...], why: str) -> None:
     """Refuse the first of ``keys`` missing from ``obj``, saying ``why`` it is needed."""
     for key in keys:
         if key not in obj:
             raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: {why}.")
-
-
-def _only_keys(obj: Mapping[str, Any], path: str, allowed: tuple[str, ...]) -> None:
-    for key in obj:
-        if key not in allowed:
-            where = f"{path}.{key}" if path else key
-            raise CaseError(where, f"{where} is not a field the tool knows; allowed "
-                                   f"{'in ' + path if path else 'at the top'}: "
-                                   f"{', '.join(allowed)}.", key)
 
 
 def _text(value: Any, path: str, limit: int) -> str:

@@ -10,9 +10,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from .cases import EXTRA_SECTIONS, Case, _object, _only_keys, _within
+from .cases import EXTRA_SECTIONS, Case, _within
 from .checks import finite_number, in_range
 from .errors import CaseError
+from .fields import as_object as _object
+from .fields import only_keys as _only_keys
 
 SECTION = "reading_zone"
 
