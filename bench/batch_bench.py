@@ -25,12 +25,11 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-import pycore.extensions  # noqa: F401
-from pycore.batch import run_csv_text
-from pycore.eyes import EYES
-from pycore.gaze import LensPoint
-from pycore.power import Prescription
-from pycore.prentice import induced_prism
+from pycore.documents.batch import run_csv_text
+from pycore.optics.eyes import EYES
+from pycore.optics.power import Prescription
+from pycore.optics.prentice import induced_prism
+from pycore.spectacles.gaze import LensPoint
 
 HEADER = ["name", "right.rx", "left.rx", "fitting.right.mono_pd_mm", "fitting.left.mono_pd_mm",
           "fitting.right.height_mm", "fitting.left.height_mm",

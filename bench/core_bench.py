@@ -22,8 +22,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from pycore import extensions  # noqa: E402,F401
-from pycore.cases import read_case_text  # noqa: E402
+from pycore.documents.cases import read_case_text  # noqa: E402
 from pycore.evaluate import evaluate  # noqa: E402
 
 CASES = sorted((ROOT / "examples").glob("*.json"))

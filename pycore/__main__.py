@@ -1,7 +1,7 @@
-"""``python -m pycore``: see pycore.cli."""
+"""``python -m pycore``: see pycore.interfaces.cli."""
 
 import sys
 
-from .cli import main
+from pycore.interfaces.cli import main
 
 sys.exit(main())

@@ -1,44 +1,50 @@
-"""Evaluating a case: the prism before each eye and the net at every point of gaze.
+"""Evaluating a case: the one pipeline shared by the CLI, the browser worker and the tests.
 
-The one entry point shared by the CLI, the browser worker and the tests. The
-result is plain JSON-ready data, numbers unrounded.
+``evaluate(case, sections)`` computes the result sections in one visible order:
+
+1. ``points``: the prism before each eye and the net at every point of gaze;
+2. ``eyes``: each lens as ordered (powers, transposed form, prism, decentration);
+3. ``fitting``: the distance and near centration;
+4. ``frame``: frame PD, decentration and the smallest blank;
+5. ``reading_zone``: the imbalance down the lenses and the threshold depth;
+6. ``remedies``: the remedies side by side (needs ``reading_zone``'s settings only);
+7. ``verification``: the verdicts, for a case with a verification section.
+
+``cautions`` is always present. The result is plain JSON-ready data, numbers unrounded.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Iterable
 from typing import Any
 
-from .binocular import NetPrism
-from .cases import Case, Frame
-from .decentration import (
+from pycore.cautions import CAUTIONS
+from pycore.checks.verification_section import evaluate_section as verification_section
+from pycore.documents.cases import Case, Frame
+from pycore.errors import CaseError
+from pycore.optics.eyes import EYES, Eye
+from pycore.reading.reading_point import find_fitting_point
+from pycore.reading.remedies.side_by_side import remedies_section
+from pycore.reading.zone import reading_zone_section
+from pycore.spectacles.binocular import NetPrism
+from pycore.spectacles.decentration import (
     decentration_for_prism,
     decentration_per_eye_mm,
     frame_pd_mm,
     minimum_blank_mm,
 )
-from .errors import CaseError
-from .eyes import EYES, Eye
-from .fitting import Fitting
-from .gaze import GazePoint
-from .lens import Lens
+from pycore.spectacles.fitting import Fitting
+from pycore.spectacles.gaze import GazePoint
+from pycore.spectacles.lens import Lens
 
-CAUTIONS = (
-    "A check aid only: verify every figure by measurement on the finished spectacles.",
-    "Judge results against the standards and regulations in force locally.",
-    "Clinical decisions (prescribing prism, slab-off, remedies) belong to licensed "
-    "practitioners.",
-)
+SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "remedies", "verification")
+"""Every result section, in the order ``evaluate`` computes them."""
 
-FittingPointFinder = Callable[[Case, str], GazePoint | None]
-FITTING_POINT_FINDERS: list[FittingPointFinder] = []
-"""Lens designs and the reading zone may place the fitting's named points
-(``distance``, ``near``) themselves; a finder answers None to leave it to the rule below."""
+BASIC_SECTIONS = ("points", "eyes", "fitting", "frame")
+"""The sections that need no lens-design analysis (fast enough for every keystroke)."""
 
-ExtraEvaluator = Callable[[Case, dict[str, Any]], dict[str, Any] | None]
-EXTRA_RESULTS: dict[str, ExtraEvaluator] = {}
-"""Further result sections (remedies, verification, ...) register an evaluator here;
-each receives the case and the result so far, and its answer goes under its key."""
+__all__ = ["BASIC_SECTIONS", "CAUTIONS", "SECTIONS", "evaluate", "evaluate_point",
+           "resolve_points"]
 
 
 def near_horizontal_power(case: Case, eye: Eye) -> float:
@@ -58,7 +64,7 @@ def resolve_points(case: Case) -> list[GazePoint]:
     """The case's points of gaze, with ``distance`` and ``near`` found from the fitting."""
     resolved = []
     for point in case.points:
-        found = point if isinstance(point, GazePoint) else _found_by_finders(case, point)
+        found = point if isinstance(point, GazePoint) else find_fitting_point(case, point)
         if found is not None:
             resolved.append(found)
         elif point == "distance":
@@ -67,14 +73,6 @@ def resolve_points(case: Case) -> list[GazePoint]:
         else:
             resolved.append(_near_point(case, case.fitting))
     return resolved
-
-
-def _found_by_finders(case: Case, name: str) -> GazePoint | None:
-    for finder in FITTING_POINT_FINDERS:
-        found = finder(case, name)
-        if found is not None:
-            return found
-    return None
 
 
 def _near_point(case: Case, fitting: Fitting | None) -> GazePoint:
@@ -141,7 +139,7 @@ def describe_fitting(case: Case) -> dict[str, Any] | None:
         return None
     powers = (near_horizontal_power(case, "right"), near_horizontal_power(case, "left"))
     try:
-        near = _found_by_finders(case, "near") or _near_point(case, fitting)
+        near = find_fitting_point(case, "near") or _near_point(case, fitting)
     except CaseError:
         return {"distance_pd_mm": fitting.distance_pd_mm, "near_inset_mm": None}
     # The insets are read off the near point itself, so they agree with `points`.
@@ -191,22 +189,33 @@ def describe_frame(case: Case, frame: Frame | None) -> dict[str, Any] | None:
     return result
 
 
-def evaluate(case: Case, further_sections: bool = True) -> dict[str, Any]:
-    """The full result for a case (see docs/case-format.md, "Output").
+def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
+    """The result for a case: the named ``sections`` (see SECTIONS), in pipeline order.
 
-    ``further_sections=False`` leaves out the registered further sections (reading
-    zone, remedies, verification): the points, eyes, fitting and frame only.
+    A section the case cannot have (``fitting`` without a fitting, ``verification``
+    without its section) is None or absent, as documented in docs/case-format.md.
     """
-    points = [evaluate_point(case, point) for point in resolve_points(case)]
-    result: dict[str, Any] = {
-        "points": points,
-        "eyes": {eye: describe_lens(case.lens(eye), eye) for eye in EYES},
-        "fitting": describe_fitting(case),
-        "frame": describe_frame(case, case.frame),
-        "cautions": list(CAUTIONS),
-    }
-    for key, evaluator in (EXTRA_RESULTS.items() if further_sections else ()):
-        section = evaluator(case, result)
-        if section is not None:
-            result[key] = section
+    wanted = set(sections)
+    unknown = wanted - set(SECTIONS)
+    if unknown:
+        raise CaseError("sections", f"Unknown result sections: {', '.join(sorted(unknown))}; "
+                                    f"known: {', '.join(SECTIONS)}.")
+    result: dict[str, Any] = {}
+    if "points" in wanted:
+        result["points"] = [evaluate_point(case, point) for point in resolve_points(case)]
+    if "eyes" in wanted:
+        result["eyes"] = {eye: describe_lens(case.lens(eye), eye) for eye in EYES}
+    if "fitting" in wanted:
+        result["fitting"] = describe_fitting(case)
+    if "frame" in wanted:
+        result["frame"] = describe_frame(case, case.frame)
+    result["cautions"] = list(CAUTIONS)
+    if "reading_zone" in wanted:
+        result["reading_zone"] = reading_zone_section(case, result)
+    if "remedies" in wanted:
+        result["remedies"] = remedies_section(case, result)
+    if "verification" in wanted:
+        verdicts = verification_section(case, result)
+        if verdicts is not None:
+            result["verification"] = verdicts
     return result

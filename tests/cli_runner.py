@@ -38,8 +38,8 @@ def check_refusal_in_process(command: str, name: str, document: Any, field: str,
 
     import pytest
 
-    from pycore.cli import main
     from pycore.errors import CaseError
+    from pycore.interfaces.cli import main
 
     text = document if isinstance(document, str) else json.dumps(document)
     monkeypatch.setattr(sys, "stdin", io.TextIOWrapper(io.BytesIO(text.encode())))

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from reference import lens_prism
 
-from pycore.cases import read_case
+from pycore.documents.cases import read_case
 from pycore.evaluate import evaluate
 
 
@@ -49,7 +49,7 @@ def test_evaluate_matches_numpy_reference(seed: int) -> None:
 def test_power_matrix_matches_reference_on_many_lenses() -> None:
     from reference import power_matrix
 
-    from pycore.power import Prescription
+    from pycore.optics.power import Prescription
 
     rng = np.random.default_rng(2026)
     for _ in range(2000):

@@ -20,15 +20,14 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import pycore.batch_cli as batch_cli
-import pycore.extensions  # noqa: F401
-from pycore.batch import CSV_COLUMNS, run_csv_text
-from pycore.bridge import handle
-from pycore.cases import read_case
-from pycore.cli import main
-from pycore.csvcases import check_header, row_document
+import pycore.interfaces.commands.batch as batch_cli
+from pycore.documents.batch import CSV_COLUMNS, run_csv_text
+from pycore.documents.cases import read_case
+from pycore.documents.csv_cases import check_header, row_document
 from pycore.errors import CaseError
 from pycore.evaluate import evaluate
+from pycore.interfaces.bridge import handle
+from pycore.interfaces.cli import main
 
 ROOT = Path(__file__).resolve().parent.parent
 HEADER = ["name", "right.rx", "left.rx", "right.prism", "fitting.right.mono_pd_mm",

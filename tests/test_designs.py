@@ -11,17 +11,16 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from pycore import extensions  # noqa: F401  (registers the reading-zone sections)
-from pycore.cases import read_case
+from pycore.documents.cases import read_case
 from pycore.evaluate import evaluate
-from pycore.eyes import Eye
-from pycore.gaze import LensPoint
-from pycore.lens import Lens, Segment, SlabOff
-from pycore.lens_sampler import LensSampler
-from pycore.power import Prescription
-from pycore.prism import Prism
-from pycore.progressive import Progressive
-from pycore.segments import SegmentOutline
+from pycore.optics.eyes import Eye
+from pycore.optics.power import Prescription
+from pycore.optics.prism import Prism
+from pycore.spectacles.gaze import LensPoint
+from pycore.spectacles.lens import Lens, Segment, SlabOff
+from pycore.spectacles.progressive import Progressive
+from pycore.spectacles.sampler import LensSampler
+from pycore.spectacles.segments import SegmentOutline
 
 
 def bifocal(shape: dict[str, Any], add: float = 2.0, top: float = -3.0) -> dict[str, Any]:

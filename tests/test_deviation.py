@@ -18,12 +18,11 @@ from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import pycore.extensions  # noqa: F401
-from pycore.cli import main
-from pycore.deviation import deviation_at_eye, read_deviation, through_spectacles
-from pycore.eyes import Eye
-from pycore.power import Prescription
-from pycore.prism import Prism
+from pycore.checks.deviation import deviation_at_eye, read_deviation, through_spectacles
+from pycore.interfaces.cli import main
+from pycore.optics.eyes import Eye
+from pycore.optics.power import Prescription
+from pycore.optics.prism import Prism
 
 GOOD = {"measured": "45 BO", "fixating": "right", "right": {"rx": "-10.00 DS"},
         "left": {"rx": "-10.00 DS"}, "centre_of_rotation_mm": 25}
@@ -178,7 +177,7 @@ def test_cli_text(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:
 
 
 def test_worker_action() -> None:
-    from pycore.bridge import handle
+    from pycore.interfaces.bridge import handle
 
     reply = json.loads(handle(json.dumps({"action": "deviation", "payload": GOOD})))
     assert reply["ok"] and reply["result"]["at_eye"]["amount"] == pytest.approx(36.0)

@@ -6,11 +6,11 @@ import numpy as np
 import pytest
 from reference import power_matrix
 
-from pycore.decentration import decentration_for_prism
 from pycore.errors import CaseError
-from pycore.notation import parse_prescription, parse_prism
-from pycore.power import Prescription
-from pycore.prism import Prism, combine, split_between_eyes
+from pycore.optics.notation import parse_prescription, parse_prism
+from pycore.optics.power import Prescription
+from pycore.optics.prism import Prism, combine, split_between_eyes
+from pycore.spectacles.decentration import decentration_for_prism
 
 
 @pytest.mark.parametrize("text, sphere, cylinder, axis", [

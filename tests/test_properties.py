@@ -8,15 +8,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from pycore.binocular import NetPrism
-from pycore.decentration import decentration_for_prism
-from pycore.eyes import Eye
-from pycore.gaze import LensPoint
-from pycore.lens import Lens
-from pycore.notation import parse_prescription, parse_prism
-from pycore.power import Prescription
-from pycore.prentice import induced_prism
-from pycore.prism import Prism, split_between_eyes
+from pycore.optics.eyes import Eye
+from pycore.optics.notation import parse_prescription, parse_prism
+from pycore.optics.power import Prescription
+from pycore.optics.prentice import induced_prism
+from pycore.optics.prism import Prism, split_between_eyes
+from pycore.spectacles.binocular import NetPrism
+from pycore.spectacles.decentration import decentration_for_prism
+from pycore.spectacles.gaze import LensPoint
+from pycore.spectacles.lens import Lens
 
 EXAMPLES = 1500
 

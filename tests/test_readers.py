@@ -17,13 +17,8 @@ from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import pycore.extensions  # noqa: F401
-from pycore.cli import main
-from pycore.errors import CaseError
-from pycore.fitting import near_inset_mm
-from pycore.reader_limits import limit_set
-from pycore.readers import fit_pair, read_wearer, readers_request
-from pycore.stock import (
+from pycore.checks.reader_limits import limit_set
+from pycore.checks.reader_stock import (
     StockPair,
     hand_out,
     parse_stock_csv,
@@ -32,6 +27,10 @@ from pycore.stock import (
     stock_to_csv,
     undo_hand_out,
 )
+from pycore.checks.readers import fit_pair, read_wearer, readers_request
+from pycore.errors import CaseError
+from pycore.interfaces.cli import main
+from pycore.spectacles.fitting import near_inset_mm
 
 STOCK = [
     {"id": "N66", "power": 2.5, "oc_distance_mm": 66, "frame_size": "54-18", "count": 3},
@@ -87,7 +86,7 @@ def test_matching_pair_ranks_first_and_out_of_stock_is_skipped() -> None:
 
 
 def test_near_cd_from_distance_pd_uses_the_lead_inset() -> None:
-    """Near CD from distance PD by pycore.fitting.near_inset_mm, for the pair's power."""
+    """Near CD from distance PD by pycore.spectacles.fitting.near_inset_mm, for the pair's power."""
     wearer = read_wearer({"distance_pd_mm": 64, "working_distance_mm": 400,
                           "right": {"rx": "+2.50 DS"}, "left": {"rx": "+2.50 DS"}})
     fit = fit_pair(wearer, StockPair("X", 2.5, 60.0, "", 1))
@@ -332,7 +331,7 @@ def test_limit_sets_carry_their_sources() -> None:
 
 
 def test_worker_actions_stock_cycle() -> None:
-    from pycore.bridge import handle
+    from pycore.interfaces.bridge import handle
 
     def call(name: str, payload: Any) -> dict[str, Any]:
         reply: dict[str, Any] = json.loads(handle(json.dumps({"action": name,

@@ -11,12 +11,11 @@ from casebook import DURHAM_BIFOCAL, FITTING
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from pycore import extensions  # noqa: F401  (registers the reading-zone sections)
-from pycore.cases import read_case
+from pycore.documents.cases import read_case
 from pycore.evaluate import evaluate, evaluate_point
-from pycore.gaze import GazePoint, LensPoint
-from pycore.reading_options import DEFAULT_THRESHOLD
-from pycore.reading_point import reading_geometry
+from pycore.reading.options import DEFAULT_THRESHOLD
+from pycore.reading.reading_point import reading_geometry
+from pycore.spectacles.gaze import GazePoint, LensPoint
 
 DURHAM = DURHAM_BIFOCAL
 
@@ -68,7 +67,7 @@ def test_reading_point_rules() -> None:
 
 
 def test_convergence_inset_at_the_reading_point() -> None:
-    """pycore.fitting's inset for the power looked through: plano, PD 63 split 31.5, W 400,
+    """The fitting's inset for the power looked through: plano, PD 63 split 31.5, W 400,
     s 27 -> near CD 59.02 (shared/domain-sources.md, derived), so inset 1.99 each."""
     document = {"right": {"sphere": 0}, "left": {"sphere": 0},
                 "fitting": {"right": {"mono_pd_mm": 31.5}, "left": {"mono_pd_mm": 31.5}},

@@ -13,12 +13,11 @@ from cli_runner import run_cli
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from pycore import extensions  # noqa: F401  (registers the remedies)
-from pycore.bridge import handle
-from pycore.cases import read_case
+from pycore.documents.cases import read_case
 from pycore.evaluate import evaluate
-from pycore.remedies import ORDER
-from pycore.remedy_cases import round_to_step
+from pycore.interfaces.bridge import handle
+from pycore.reading.remedies.finished_case import round_to_step
+from pycore.reading.remedies.side_by_side import ORDER
 
 DURHAM = DURHAM_BIFOCAL
 

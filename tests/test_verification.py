@@ -19,14 +19,13 @@ from cli_runner import check_refusal_in_process
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import pycore.extensions  # noqa: F401  (registers the verification section)
-from pycore.cases import read_case
-from pycore.cli import main
-from pycore.datafiles import data_names, load_table
+from pycore.checks.tolerances import CERTAINTIES, tolerance_tables
+from pycore.checks.verification import verify
+from pycore.checks.verification_input import read_verification
+from pycore.documents.cases import read_case
+from pycore.documents.datafiles import data_names, load_table
 from pycore.evaluate import evaluate
-from pycore.tolerances import CERTAINTIES, tolerance_tables
-from pycore.verification import verify
-from pycore.verify_input import read_verification
+from pycore.interfaces.cli import main
 
 
 def pair(right_rx: str, left_rx: str, measured: dict[str, Any], **settings_: Any) -> dict[str, Any]:
@@ -74,9 +73,10 @@ def test_no_tolerance_number_in_the_logic() -> None:
     from pathlib import Path
 
     limits = {0.33, 0.67, 3.375, 2.75, 3.75, 3.25, 2.5, 0.25}
-    for name in ("verification.py", "verify_input.py", "tolerances.py", "readers.py",
+    checks = Path(__file__).resolve().parent.parent / "pycore" / "checks"
+    for name in ("verification.py", "verification_input.py", "tolerances.py", "readers.py",
                  "reader_limits.py"):
-        tree = ast.parse((Path(__file__).resolve().parent.parent / "pycore" / name).read_text())
+        tree = ast.parse((checks / name).read_text())
         numbers = {node.value for node in ast.walk(tree)
                    if isinstance(node, ast.Constant) and isinstance(node.value, float)}
         assert not numbers & limits, (name, numbers & limits)
@@ -376,7 +376,7 @@ def test_case_with_progressive_design_takes_its_thinning_prism_out() -> None:
 
 
 def test_worker_actions() -> None:
-    from pycore.bridge import handle
+    from pycore.interfaces.bridge import handle
 
     reply = json.loads(handle(json.dumps({"action": "verify", "payload": GOOD})))
     assert reply["ok"] and reply["result"]["result"] == "pass"

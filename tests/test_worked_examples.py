@@ -9,15 +9,15 @@ import json
 
 import pytest
 
-from pycore.cases import read_case
-from pycore.decentration import decentration_per_eye_mm, frame_pd_mm, minimum_blank_mm
+from pycore.documents.cases import read_case
 from pycore.evaluate import evaluate
-from pycore.fitting import EyeFitting, Fitting, near_inset_mm
-from pycore.gaze import LensPoint
-from pycore.lens import Lens
-from pycore.power import Prescription
-from pycore.prentice import induced_prism, prentice
-from pycore.prism import Prism
+from pycore.optics.power import Prescription
+from pycore.optics.prentice import induced_prism, prentice
+from pycore.optics.prism import Prism
+from pycore.spectacles.decentration import decentration_per_eye_mm, frame_pd_mm, minimum_blank_mm
+from pycore.spectacles.fitting import EyeFitting, Fitting, near_inset_mm
+from pycore.spectacles.gaze import LensPoint
+from pycore.spectacles.lens import Lens
 
 
 def test_oblique_sphero_cylinder_jalie() -> None:

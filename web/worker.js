@@ -97,7 +97,7 @@ async function start(useImage = true) {
       "del site, zipfile, w");
     pyodide.FS.unlink("/tmp/prism_desk.whl");
     mark("unpacked");
-    bridge = pyodide.pyimport("pycore.bridge");
+    bridge = pyodide.pyimport("pycore.interfaces.bridge");
   } catch (err) {
     if (from !== "image") throw err;
     console.warn("restored interpreter unusable; starting afresh:", err && err.message);

@@ -1,0 +1,1 @@
+"""Checks: finished pairs against tolerances, ready-made readers, deviations."""

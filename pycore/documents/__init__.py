@@ -1,0 +1,1 @@
+"""Case documents: reading and validating JSON and CSV, data tables, batch runs, text summaries."""

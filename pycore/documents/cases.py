@@ -1,0 +1,407 @@
+"""Case documents (JSON) to values, and every refusal naming its field.
+
+The format is described in docs/case-format.md. Parsing is strict: an
+unknown key is refused (a mistyped ``cyl`` must never silently become a
+lens with no cylinder).
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from functools import partial
+from typing import Any, TypeVar
+
+from pycore.checks.verification_input import read_section as read_verification_section
+from pycore.documents.fields import as_object as _object
+from pycore.documents.fields import only_keys as _only_keys
+from pycore.documents.fields import read_prism as read_prism
+from pycore.documents.fields import within as _within
+from pycore.errors import CaseError
+from pycore.optics.eyes import EYES, Eye
+from pycore.optics.notation import parse_prescription
+from pycore.optics.power import Prescription
+from pycore.optics.prism import PRISM_LIMIT, Prism
+from pycore.reading.options import read_reading_zone
+from pycore.spectacles.fitting import (
+    DEFAULT_CENTRE_OF_ROTATION_MM,
+    DEFAULT_READING_DEPTH_MM,
+    DEFAULT_WORKING_DISTANCE_MM,
+    EyeFitting,
+    Fitting,
+)
+from pycore.spectacles.gaze import GazePoint, LensPoint
+from pycore.spectacles.lens import Lens, Segment, SlabOff
+from pycore.spectacles.progressive import Progressive
+from pycore.spectacles.segments import SEGMENT_SHAPES, SegmentOutline
+from pycore.validation import finite_number, in_range
+
+T = TypeVar("T")
+
+MAX_DOCUMENT_BYTES = 1_000_000
+MAX_DEPTH = 12
+MAX_POINTS = 200
+MAX_NAME = 80
+FITTING_POINTS = ("distance", "near")
+
+
+@dataclass(frozen=True)
+class Frame:
+    """Frame sizes (mm): box width A, bridge DBL, effective diameter ED, box depth B."""
+
+    a_mm: float
+    dbl_mm: float
+    ed_mm: float | None = None
+    b_mm: float | None = None
+
+
+@dataclass(frozen=True)
+class Case:
+    """One wearer's spectacles and the points of gaze to check."""
+
+    right: Lens
+    left: Lens
+    points: tuple[GazePoint | str, ...]
+    fitting: Fitting | None = None
+    frame: Frame | None = None
+    name: str = ""
+    extras: Mapping[str, Any] = field(default_factory=dict)
+    document: Mapping[str, Any] = field(default_factory=dict, compare=False, repr=False)
+    """The parsed document the case was read from (remedies edit a copy of it)."""
+
+    def lens(self, eye: Eye) -> Lens:
+        return self.right if eye == "right" else self.left
+
+
+# --------------------------------------------------------------------------- reading JSON
+
+
+def load_json(text: str | bytes) -> Any:
+    """Parse JSON text strictly: size, depth, NaN/Infinity and duplicate keys are refused."""
+    if isinstance(text, bytes):
+        if len(text) > MAX_DOCUMENT_BYTES:
+            raise _too_large(len(text))
+        try:
+            text = text.decode("utf-8")
+        except UnicodeDecodeError:
+            raise CaseError("", "The case file is not UTF-8 text.") from None
+    if len(text) > MAX_DOCUMENT_BYTES:
+        raise _too_large(len(text))
+    if not text.strip():
+        raise CaseError("", "The case is empty; expected a JSON object with right and left.")
+    try:
+        document = json.loads(text, parse_constant=_refuse_constant,
+                              object_pairs_hook=_no_duplicates)
+    except CaseError:
+        raise
+    except RecursionError:
+        raise _too_deep() from None
+    except json.JSONDecodeError as exc:
+        raise CaseError(
+            "", f"The case is not valid JSON (line {exc.lineno}, column {exc.colno}: "
+            f"{exc.msg.lower()})."
+        ) from None
+    if _depth(document) > MAX_DEPTH:
+        raise _too_deep()
+    return document
+
+
+def _too_large(size: int) -> CaseError:
+    return CaseError("", f"The case is too large ({size} bytes; at most "
+                         f"{MAX_DOCUMENT_BYTES} bytes).")
+
+
+def _too_deep() -> CaseError:
+    return CaseError("", f"The case is nested too deeply (at most {MAX_DEPTH} levels).")
+
+
+def _refuse_constant(name: str) -> Any:
+    raise CaseError("", f"The case contains {name}, which is not a number; use finite numbers.")
+
+
+def _no_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    result: dict[str, Any] = {}
+    for key, value in pairs:
+        if key in result:
+            raise CaseError(key, f"{key} appears twice in the same object; give it once.")
+        result[key] = value
+    return result
+
+
+def _depth(value: Any) -> int:
+    deepest, stack = 0, [(value, 1)]
+    while stack:
+        item, level = stack.pop()
+        deepest = max(deepest, level)
+        if level > MAX_DEPTH:
+            break
+        if isinstance(item, dict):
+            stack.extend((v, level + 1) for v in item.values())
+        elif isinstance(item, list):
+            stack.extend((v, level + 1) for v in item)
+    return deepest
+
+
+# --------------------------------------------------------------------------- sections
+
+SECTIONS: dict[str, Callable[[Any, str], Any]] = {
+    "reading_zone": read_reading_zone,
+    "verification": read_verification_section,
+}
+"""The further top-level sections a case may carry, and the reader of each; what
+they hold is kept in ``Case.extras`` under the same key."""
+
+_TOP_KEYS = ("right", "left", "points", "fitting", "frame", "name", "notes", "schema")
+
+
+def read_case(document: Any) -> Case:
+    """A validated Case from a parsed JSON document."""
+    obj = _object(document, "", "the case")
+    _only_keys(obj, "", (*_TOP_KEYS, *SECTIONS))
+    lenses = {}
+    for eye in EYES:
+        if eye not in obj:
+            raise CaseError(eye, f"{eye} is missing: a case needs both eyes' lenses "
+                                 "(use sphere 0 for a plano lens).")
+        lenses[eye] = read_lens(obj[eye], eye)
+    fitting = read_fitting(obj["fitting"], "fitting") if "fitting" in obj else None
+    frame = read_frame(obj["frame"], "frame") if "frame" in obj else None
+    if "points" in obj:
+        points = read_points(obj["points"], "points", fitting)
+    elif fitting is not None:
+        points = FITTING_POINTS
+    else:
+        raise CaseError("points", "points is missing: give points of gaze, or a fitting "
+                                  "with monocular PDs from which to find them.")
+    name = _text(obj.get("name", ""), "name", MAX_NAME)
+    _text(obj.get("notes", ""), "notes", 2000)
+    if "schema" in obj:
+        in_range(obj["schema"], "schema", 1, 1)
+    extras = {key: reader(obj[key], key) for key, reader in SECTIONS.items() if key in obj}
+    return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
+
+
+def read_case_text(text: str | bytes) -> Case:
+    return read_case(load_json(text))
+
+
+_LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",
+              "progressive")
+
+
+def read_lens(value: Any, path: str) -> Lens:
+    obj = _object(value, path, "an eye's lens")
+    _only_keys(obj, path, _LENS_KEYS)
+    eye: Eye = "right" if path.endswith("right") else "left"
+    rx = _prescription(obj, path)
+    prism = read_prism(obj["prism"], f"{path}.prism", eye) if "prism" in obj else Prism()
+    add = 0.0
+    if "add" in obj:
+        add = finite_number(obj["add"], f"{path}.add", "dioptres")
+        if add != 0:
+            add = _within(lambda: in_range(add, "add", 0.25, 6.0, "dioptres"), path)
+    segment = _read_segment(obj["segment"], f"{path}.segment") if "segment" in obj else None
+    if segment is not None and add == 0:
+        raise CaseError(f"{path}.add", f"{path}.add is needed with a segment: give the "
+                                       "reading addition in dioptres (0.25 to 6).")
+    slab = _read_slab_off(obj["slab_off"], f"{path}.slab_off") if "slab_off" in obj else None
+    progressive = (_read_progressive(obj["progressive"], f"{path}.progressive")
+                   if "progressive" in obj else None)
+    if progressive is not None and add == 0:
+        raise CaseError(f"{path}.add", f"{path}.add is needed with a progressive: give the "
+                                       "reading addition in dioptres (0.25 to 6).")
+    return _within(lambda: Lens(rx, prism, add, segment, slab, progressive), path)
+
+
+def _prescription(obj: Mapping[str, Any], path: str) -> Prescription:
+    if "rx" in obj:
+        clash = [k for k in ("sphere", "cylinder", "axis") if k in obj]
+        if clash:
+            raise CaseError(f"{path}.rx", f"{path}.rx and {path}.{clash[0]} both given; "
+                                          "write the prescription one way only.")
+        return parse_prescription(obj["rx"], f"{path}.rx")
+    if "sphere" not in obj:
+        raise CaseError(f"{path}.sphere", f"{path}.sphere is missing: give the sphere in "
+                                          "dioptres (0 for plano).")
+    sphere = finite_number(obj["sphere"], f"{path}.sphere", "dioptres")
+    cylinder = finite_number(obj.get("cylinder", 0), f"{path}.cylinder", "dioptres")
+    axis = finite_number(obj.get("axis", 0), f"{path}.axis", "degrees")
+    return _within(lambda: Prescription(sphere, cylinder, axis), path)
+
+
+_SEGMENT_PLACE_KEYS = ("top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm")
+
+
+def _read_segment(value: Any, path: str) -> Segment:
+    obj = _object(value, path, "a segment")
+    _only_keys(obj, path, (*_SEGMENT_PLACE_KEYS, *_SEGMENT_DESIGN_KEYS))
+    if "top_mm" not in obj:
+        raise CaseError(f"{path}.top_mm", f"{path}.top_mm is missing: give the segment top's "
+                                          "height from the distance reference point (mm).")
+    numbers = {k: finite_number(obj[k], f"{path}.{k}", "mm")
+               for k in _SEGMENT_PLACE_KEYS if k in obj}
+    outline = _read_segment_outline(obj, path)
+    if outline is not None and "optical_centre_below_top_mm" not in numbers:
+        numbers["optical_centre_below_top_mm"] = outline.usual_optical_centre_below_top_mm
+    return _within(lambda: Segment(**numbers, outline=outline), path)
+
+
+# --------------------------------------------------------------------------- lens designs
+# Segment shapes and progressive designs (pycore/segments.py, pycore/progressive.py);
+# docs/case-format.md, "Lens designs and the reading zone".
+
+_SEGMENT_DESIGN_KEYS = ("shape", "diameter_mm", "width_mm")
+_SIZE_KEYS = {"round": "diameter_mm", "flat_top": "width_mm"}
+
+
+def _read_segment_outline(obj: Mapping[str, Any], path: str) -> SegmentOutline | None:
+    """The segment's shape and size; a size alone implies the shape (diameter: round,
+    width: flat-top). None when the case gives neither."""
+    sizes = [key for key in ("diameter_mm", "width_mm") if key in obj]
+    if len(sizes) == 2:
+        raise CaseError(f"{path}.width_mm", f"{path}.width_mm and {path}.diameter_mm both "
+                                            "given; a round segment has a diameter, a "
+                                            "flat-top a width.")
+    shape = obj.get("shape")
+    if shape is None:
+        if not sizes:
+            return None
+        shape = "round" if sizes[0] == "diameter_mm" else "flat_top"
+    if shape not in SEGMENT_SHAPES:
+        raise CaseError(f"{path}.shape", f"{path}.shape must be one of "
+                                         f"{', '.join(SEGMENT_SHAPES)}.", shape)
+    wanted = _SIZE_KEYS.get(shape)
+    if sizes and sizes[0] != wanted:
+        instead = f"give {wanted} instead" if wanted else "it spans the lens, so leave it out"
+        raise CaseError(f"{path}.{sizes[0]}", f"{path}.{sizes[0]} does not fit a {shape} "
+                                              f"segment; {instead}.")
+    size = finite_number(obj[sizes[0]], f"{path}.{sizes[0]}", "mm") if sizes else None
+    return _within(lambda: SegmentOutline(shape, size), path)
+
+
+_PROGRESSIVE_KEYS = {"prism_reference_below_cross_mm": "mm", "near_depth_mm": "mm",
+                     "near_inset_mm": "mm", "thinning_prism_base_down": "prism dioptres"}
+
+
+def _read_progressive(value: Any, path: str) -> Progressive:
+    obj = _object(value, path, "a progressive design")
+    _only_keys(obj, path, tuple(_PROGRESSIVE_KEYS))
+    numbers = {k: finite_number(v, f"{path}.{k}", _PROGRESSIVE_KEYS[k]) for k, v in obj.items()}
+    return _within(lambda: Progressive(**numbers), path)
+
+
+def _read_slab_off(value: Any, path: str) -> SlabOff:
+    obj = _object(value, path, "a slab-off")
+    _only_keys(obj, path, ("base_up", "line_mm"))
+    _require(obj, path, ("base_up", "line_mm"),
+             "a slab-off needs base_up (prism dioptres) and line_mm (mm)")
+    base_up = finite_number(obj["base_up"], f"{path}.base_up", "prism dioptres")
+    line = finite_number(obj["line_mm"], f"{path}.line_mm", "mm")
+    return _within(lambda: SlabOff(base_up, line), path)
+
+
+_FITTING_KEYS = ("right", "left", "working_distance_mm", "centre_of_rotation_mm",
+                 "reading_depth_mm")
+
+
+def read_fitting(value: Any, path: str) -> Fitting:
+    obj = _object(value, path, "a fitting")
+    _only_keys(obj, path, _FITTING_KEYS)
+    eyes = {}
+    for eye in EYES:
+        if eye not in obj:
+            raise CaseError(f"{path}.{eye}", f"{path}.{eye} is missing: give that eye's "
+                                             "monocular PD (mono_pd_mm).")
+        eye_obj = _object(obj[eye], f"{path}.{eye}", "an eye's fitting")
+        _only_keys(eye_obj, f"{path}.{eye}", ("mono_pd_mm", "height_mm"))
+        if "mono_pd_mm" not in eye_obj:
+            raise CaseError(f"{path}.{eye}.mono_pd_mm", f"{path}.{eye}.mono_pd_mm is missing: "
+                                                        "give the monocular PD in mm.")
+        pd = finite_number(eye_obj["mono_pd_mm"], f"{path}.{eye}.mono_pd_mm", "mm")
+        height = eye_obj.get("height_mm")
+        if height is not None:
+            height = finite_number(height, f"{path}.{eye}.height_mm", "mm")
+        eyes[eye] = _within(partial(EyeFitting, pd, height), f"{path}.{eye}")
+    numbers = {
+        key: finite_number(obj.get(key, default), f"{path}.{key}", "mm")
+        for key, default in (("working_distance_mm", DEFAULT_WORKING_DISTANCE_MM),
+                             ("centre_of_rotation_mm", DEFAULT_CENTRE_OF_ROTATION_MM),
+                             ("reading_depth_mm", DEFAULT_READING_DEPTH_MM))
+    }
+    return _within(lambda: Fitting(eyes["right"], eyes["left"], **numbers), path)
+
+
+def read_frame(value: Any, path: str) -> Frame:
+    obj = _object(value, path, "a frame")
+    _only_keys(obj, path, ("a_mm", "dbl_mm", "ed_mm", "b_mm"))
+    _require(obj, path, ("a_mm", "dbl_mm"), "a frame needs its box width a_mm and bridge dbl_mm")
+    a = in_range(obj["a_mm"], f"{path}.a_mm", 25, 80, "mm")
+    dbl = in_range(obj["dbl_mm"], f"{path}.dbl_mm", 8, 30, "mm")
+    ed = in_range(obj["ed_mm"], f"{path}.ed_mm", 25, 90, "mm") if "ed_mm" in obj else None
+    b = in_range(obj["b_mm"], f"{path}.b_mm", 15, 70, "mm") if "b_mm" in obj else None
+    if ed is not None and ed < a:
+        raise CaseError(f"{path}.ed_mm", f"{path}.ed_mm ({ed:g}) cannot be smaller than the "
+                                         f"box width a_mm ({a:g}).")
+    return Frame(a, dbl, ed, b)
+
+
+def read_points(value: Any, path: str, fitting: Fitting | None) -> tuple[GazePoint | str, ...]:
+    if not isinstance(value, list):
+        raise CaseError(path, f"{path} must be a list of points of gaze.", value)
+    if not value:
+        raise CaseError(path, f"{path} is empty: give at least one point of gaze.")
+    if len(value) > MAX_POINTS:
+        raise CaseError(path, f"{path} has {len(value)} entries; at most {MAX_POINTS}.")
+    points: list[GazePoint | str] = []
+    for index, item in enumerate(value):
+        where = f"{path}.{index}"
+        if isinstance(item, str):
+            if item not in FITTING_POINTS:
+                raise CaseError(where, f"{where} must be a point object, or one of "
+                                       f"{', '.join(FITTING_POINTS)} (from the fitting).", item)
+            if fitting is None:
+                raise CaseError(where, f"{where} ({item}) needs a fitting with monocular PDs.",
+                                item)
+            points.append(item)
+            continue
+        obj = _object(item, where, "a point of gaze")
+        _only_keys(obj, where, ("name", "right", "left"))
+        name = _text(obj.get("name", f"point {index + 1}"), f"{where}.name", MAX_NAME)
+        lens_points = {}
+        for eye in EYES:
+            if eye not in obj:
+                raise CaseError(f"{where}.{eye}", f"{where}.{eye} is missing: give in_mm and "
+                                                  "up_mm for each eye.")
+            lens_points[eye] = read_lens_point(obj[eye], f"{where}.{eye}")
+        points.append(GazePoint(name, lens_points["right"], lens_points["left"]))
+    return tuple(points)
+
+
+def read_lens_point(value: Any, path: str) -> LensPoint:
+    obj = _object(value, path, "a point on the lens")
+    _only_keys(obj, path, ("in_mm", "up_mm"))
+    in_mm = finite_number(obj.get("in_mm", 0), f"{path}.in_mm", "mm")
+    up_mm = finite_number(obj.get("up_mm", 0), f"{path}.up_mm", "mm")
+    return _within(lambda: LensPoint(in_mm, up_mm), path)
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+def _require(obj: Mapping[str, Any], path: str, keys: tuple[str, ...], why: str) -> None:
+    """Refuse the first of ``keys`` missing from ``obj``, saying ``why`` it is needed."""
+    for key in keys:
+        if key not in obj:
+            raise CaseError(f"{path}.{key}", f"{path}.{key} is missing: {why}.")
+
+
+def _text(value: Any, path: str, limit: int) -> str:
+    if not isinstance(value, str):
+        raise CaseError(path, f"{path} must be text.", value)
+    if len(value) > limit:
+        raise CaseError(path, f"{path} is too long (at most {limit} characters).", value)
+    return value
+
+
+__all__ = ["PRISM_LIMIT", "Case", "Frame", "load_json", "read_case", "read_case_text"]

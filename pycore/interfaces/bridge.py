@@ -1,0 +1,105 @@
+"""The browser worker's door into the core: named actions, JSON in and out.
+
+``handle('{"action": "evaluate", "payload": {...}}')`` returns
+``{"ok": true, "result": ...}`` or ``{"ok": false, "error": {"field", "message"}}``.
+The protocol is documented in docs/worker-protocol.md.
+"""
+
+from __future__ import annotations
+
+import json
+import traceback
+from collections.abc import Callable
+from typing import Any
+
+from pycore import __version__
+from pycore.documents.cases import MAX_DOCUMENT_BYTES, load_json, read_case
+from pycore.documents.summary import text_summary
+from pycore.errors import CaseError
+from pycore.evaluate import evaluate
+from pycore.interfaces import actions
+from pycore.optics.eyes import EYES, Eye
+from pycore.optics.notation import parse_prescription, parse_prism
+
+
+def _version(_payload: Any) -> dict[str, Any]:
+    return {"version": __version__, "actions": sorted(ACTIONS)}
+
+
+def _evaluate(payload: Any) -> dict[str, Any]:
+    return evaluate(read_case(payload))
+
+
+def _summary(payload: Any) -> dict[str, Any]:
+    return {"text": text_summary(evaluate(read_case(payload)))}
+
+
+def _describe_prescription(payload: Any) -> dict[str, Any]:
+    text = _field(payload, "text")
+    rx = parse_prescription(text, "text")
+    return {"sphere": rx.sphere, "cylinder": rx.cylinder, "axis": rx.axis,
+            "written": rx.written(), "transposed_written": rx.transposed().written(),
+            "horizontal_power": rx.horizontal_power, "vertical_power": rx.vertical_power}
+
+
+def _describe_prism(payload: Any) -> dict[str, Any]:
+    text = _field(payload, "text")
+    eye = _field(payload, "eye")
+    if eye not in EYES:
+        raise CaseError("eye", "eye must be right or left.", eye)
+    chosen: Eye = "right" if eye == "right" else "left"
+    return parse_prism(text, chosen, "text").as_dict(chosen)
+
+
+def _field(payload: Any, key: str) -> Any:
+    if not isinstance(payload, dict) or key not in payload:
+        raise CaseError(key, f"{key} is missing from the request.")
+    return payload[key]
+
+
+Action = Callable[[Any], Any]
+
+ACTIONS: dict[str, Action] = {
+    "version": _version,
+    "evaluate": _evaluate,
+    "summary_text": _summary,
+    "describe_prescription": _describe_prescription,
+    "describe_prism": _describe_prism,
+    "reading_zone": actions.reading_zone,
+    "apply_remedy": actions.apply_remedy,
+    "verify": actions.verify,
+    "verify_standards": actions.verify_standards,
+    "readers_limit_sets": actions.readers_limit_sets,
+    "readers_rank": actions.readers_rank,
+    "readers_stock_import": actions.stock_import,
+    "readers_stock_export": actions.stock_export,
+    "readers_hand_out": actions.hand_out,
+    "readers_undo": actions.undo,
+    "deviation": actions.deviation,
+    "batch": actions.batch,
+}
+"""Every action the page can ask for, by name (the only way the page reaches the core)."""
+
+
+def handle(request_json: str) -> str:
+    """Answer one request (JSON text) with one reply (JSON text); never raises."""
+    try:
+        if len(request_json) > 2 * MAX_DOCUMENT_BYTES:
+            raise CaseError("", "The request is too large.")
+        request = load_json(request_json)
+        if not isinstance(request, dict) or not isinstance(request.get("action"), str):
+            raise CaseError("action", "The request must name an action.")
+        name = request["action"]
+        if name not in ACTIONS:
+            raise CaseError("action", f"Unknown action {name!r}; known: "
+                                      f"{', '.join(sorted(ACTIONS))}.", name)
+        reply: dict[str, Any] = {"ok": True, "result": ACTIONS[name](request.get("payload"))}
+    except CaseError as exc:
+        reply = {"ok": False, "error": exc.as_dict()}
+    except Exception as exc:  # a fault of the core: report it, never crash the worker
+        reply = {"ok": False, "error": {
+            "field": "",
+            "message": f"Internal error in the calculation core ({type(exc).__name__}); "
+                       "your input is kept. Please report this case.",
+            "detail": traceback.format_exc(limit=3)}}
+    return json.dumps(reply, allow_nan=False)

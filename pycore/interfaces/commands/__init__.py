@@ -1,0 +1,1 @@
+"""The command-line commands, one module each (listed in pycore.interfaces.cli)."""

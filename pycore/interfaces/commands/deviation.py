@@ -1,0 +1,51 @@
+"""``python -m pycore deviation FILE``: a deviation measured through spectacles, at the eye."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from pycore.checks.deviation import read_deviation, through_spectacles
+from pycore.checks.readers_text import deviation_text
+from pycore.documents.cases import load_json
+from pycore.interfaces.commands.common import read_input
+
+HELP = "a deviation measured with prisms through spectacles, worked back to the eye"
+
+DESCRIPTION = """\
+A deviation measured with prisms through the patient's spectacles. FILE (JSON,
+or - for standard input) gives the prism that neutralised the deviation as
+held before the non-fixating eye ("measured": "45 BO", or
+{"base_in": -45, "base_up": 0}), which eye fixated ("fixating": right or
+left), both spectacle lenses (rx, or horizontal_power and vertical_power in
+dioptres, and any prescribed prism), and optionally the lens to centre-of-
+rotation distance (centre_of_rotation_mm, default 27) and the points of the
+lenses the eyes used ("points", mm from each reference point).
+
+The tool gives the deviation at the eye (measured / (1 - d F); Scattergood,
+Brown & Guyton 1983) and why it differs: plus lenses make the measurement
+smaller, minus lenses larger, and only the lens before the non-fixating eye
+counts. It also gives the prism the spectacles themselves put before the eyes
+at the points used, and cautions about stacking loose prisms (Thompson &
+Guyton 1983). An aid to clinical judgement, which belongs to licensed
+practitioners.
+"""
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.formatter_class = argparse.RawDescriptionHelpFormatter
+    parser.description = DESCRIPTION
+    parser.add_argument("file", metavar="FILE",
+                        help="the measurement (JSON), or - for standard input")
+    parser.add_argument("--text", action="store_true",
+                        help="write a readable account instead of JSON")
+
+
+def run(args: argparse.Namespace) -> int:
+    result = through_spectacles(read_deviation(load_json(read_input(args.file))))
+    sys.stdout.write(deviation_text(result) if args.text else json.dumps(result, indent=2)
+                     + "\n")
+    sys.stdout.flush()
+    return 0
+

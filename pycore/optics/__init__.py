@@ -1,0 +1,1 @@
+"""The optics of one lens: prescription, power matrix, prism, Prentice's rule, notation."""

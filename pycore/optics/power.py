@@ -1,0 +1,113 @@
+"""Sphero-cylindrical prescriptions and their dioptric power matrix.
+
+Powers in dioptres, axis in degrees (standard notation, 0-180, the same for
+both eyes). The power matrix is written in a frame with x to the examiner's
+right (the wearer's left) and y up:
+
+    F = [[S + C sin^2 a, -C sin a cos a], [-C sin a cos a, S + C cos^2 a]]
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from pycore.validation import in_range
+
+SPHERE_LIMIT_D = 30.0
+CYLINDER_LIMIT_D = 15.0
+
+
+@dataclass(frozen=True)
+class PowerMatrix:
+    """A symmetric 2x2 dioptric power matrix [[xx, xy], [xy, yy]] (dioptres)."""
+
+    xx: float
+    xy: float
+    yy: float
+
+    def times(self, x: float, y: float) -> tuple[float, float]:
+        """F r for a displacement r = (x, y)."""
+        return (self.xx * x + self.xy * y, self.xy * x + self.yy * y)
+
+    @property
+    def determinant(self) -> float:
+        return self.xx * self.yy - self.xy * self.xy
+
+    def __add__(self, other: PowerMatrix) -> PowerMatrix:
+        return PowerMatrix(self.xx + other.xx, self.xy + other.xy, self.yy + other.yy)
+
+    def __sub__(self, other: PowerMatrix) -> PowerMatrix:
+        return PowerMatrix(self.xx - other.xx, self.xy - other.xy, self.yy - other.yy)
+
+    @classmethod
+    def spherical(cls, power: float) -> PowerMatrix:
+        return cls(power, 0.0, power)
+
+
+@dataclass(frozen=True)
+class Prescription:
+    """A sphero-cylinder S / C x axis (dioptres, degrees 0-180).
+
+    >>> Prescription(+2.0, -0.75, 180).transposed()
+    Prescription(sphere=1.25, cylinder=0.75, axis=90.0)
+    """
+
+    sphere: float
+    cylinder: float = 0.0
+    axis: float = 0.0
+
+    def __post_init__(self) -> None:
+        in_range(self.sphere, "sphere", -SPHERE_LIMIT_D, SPHERE_LIMIT_D, "dioptres")
+        in_range(self.cylinder, "cylinder", -CYLINDER_LIMIT_D, CYLINDER_LIMIT_D, "dioptres")
+        in_range(self.axis, "axis", 0, 180, "degrees")
+        object.__setattr__(self, "sphere", float(self.sphere))
+        object.__setattr__(self, "cylinder", float(self.cylinder))
+        object.__setattr__(self, "axis", float(self.axis))
+
+    def transposed(self) -> Prescription:
+        """The same lens with the cylinder in the other sign form."""
+        if self.cylinder == 0:
+            return self
+        axis = self.axis + 90 if self.axis <= 90 else self.axis - 90
+        return Prescription(self.sphere + self.cylinder, -self.cylinder, axis)
+
+    def in_minus_cylinder(self) -> Prescription:
+        return self.transposed() if self.cylinder > 0 else self
+
+    def in_plus_cylinder(self) -> Prescription:
+        return self.transposed() if self.cylinder < 0 else self
+
+    @property
+    def power_matrix(self) -> PowerMatrix:
+        """The dioptric power matrix, frame x to the examiner's right, y up."""
+        a = math.radians(self.axis)
+        s, c = math.sin(a), math.cos(a)
+        cyl = self.cylinder
+        return PowerMatrix(self.sphere + cyl * s * s, -cyl * s * c, self.sphere + cyl * c * c)
+
+    def power_in_meridian(self, meridian_deg: float) -> float:
+        """Curvital power along a meridian (degrees): S + C sin^2(meridian - axis)."""
+        return self.sphere + self.cylinder * math.sin(math.radians(meridian_deg - self.axis)) ** 2
+
+    @property
+    def vertical_power(self) -> float:
+        """Power in the vertical (90) meridian, dioptres."""
+        return self.power_in_meridian(90)
+
+    @property
+    def horizontal_power(self) -> float:
+        """Power in the horizontal (180) meridian, dioptres."""
+        return self.power_in_meridian(0)
+
+    @property
+    def mean_sphere(self) -> float:
+        return self.sphere + self.cylinder / 2
+
+    def written(self) -> str:
+        """The prescription written out: ``+1.25 / -0.75 x 90``, ``-1.25 DS``, ``plano``."""
+        sphere = "plano" if self.sphere == 0 else f"{self.sphere:+.2f}"
+        if self.cylinder == 0:
+            return sphere if self.sphere == 0 else f"{sphere} DS"
+        axis = self.axis if self.axis != 0 else 180.0
+        return f"{sphere} / {self.cylinder:+.2f} x {axis:g}"

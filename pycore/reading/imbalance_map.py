@@ -1,0 +1,138 @@
+"""Net imbalance as the eyes move down and in together: the path, the map over the
+lower half of the lenses, and the depth where the imbalance passes a threshold.
+
+Gaze coordinates as in pycore.reading.reading_point: ``drop_mm`` below the primary
+position and ``lateral_mm`` toward the wearer's right (both mm on the lens
+plane, both eyes together, converging as they drop). Net values as in the case
+format: ``vertical_base_up_right`` = base_up(right) - base_up(left) and
+``horizontal_base_in`` = base_in(right) + base_in(left), prism dioptres.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+from pycore.documents.cases import Case
+from pycore.optics.eyes import EYES
+from pycore.reading.reading_point import ReadingGeometry
+from pycore.spectacles.sampler import LensSampler
+
+_BISECTIONS = 12  # a 0.5 mm bracket halved 12 times: about a tenth of a micrometre
+
+
+@dataclass(frozen=True)
+class GazeNet:
+    """Net prism for one gaze (prism dioptres), with each eye's zone."""
+
+    vertical: float
+    horizontal: float
+    zones: tuple[str, str]
+
+
+class NetSampler:
+    """Net prism for many gazes of one case (see pycore.spectacles.sampler)."""
+
+    def __init__(self, case: Case, geometry: ReadingGeometry) -> None:
+        self.geometry = geometry
+        self._right = LensSampler(case.right, "right")
+        self._left = LensSampler(case.left, "left")
+
+    def at(self, drop_mm: float, lateral_mm: float = 0.0) -> GazeNet:
+        right = self._right.at(*self.geometry.coords("right", drop_mm, lateral_mm))
+        left = self._left.at(*self.geometry.coords("left", drop_mm, lateral_mm))
+        return GazeNet(right[1] - left[1], right[0] + left[0], (right[2], left[2]))
+
+
+def _steps(start: float, stop: float, step: float) -> list[float]:
+    """From ``start`` by ``step`` up to ``stop`` at most."""
+    count = math.floor((stop - start) / step + 1e-9)
+    return [start + i * step for i in range(count + 1)]
+
+
+def map_depth_mm(case: Case, requested: float | None, geometry: ReadingGeometry) -> float:
+    """How far down the map reaches: as asked, else to the lowest fitting height (the
+    lens's lower edge below the primary position), else 25 mm; at least past the
+    reading point."""
+    if requested is not None:
+        depth = requested
+    else:
+        heights = [fit.height_mm for fit in (case.fitting.right, case.fitting.left)
+                   if fit.height_mm is not None] if case.fitting is not None else []
+        depth = float(min(heights)) if heights else 25.0
+    depth = max(depth, geometry.reading_drop_mm + 2.0)
+    return min(max(depth, 5.0), 35.0)
+
+
+def imbalance_map(sampler: NetSampler, depth_mm: float, half_width_mm: float,
+                  step_mm: float) -> dict[str, Any]:
+    """A grid of net vertical and horizontal prism: rows by drop, columns by lateral gaze."""
+    drops = _steps(0.0, depth_mm, step_mm)
+    laterals = (_steps(-half_width_mm, half_width_mm, step_mm) if half_width_mm > 0
+                else [0.0])
+    vertical, horizontal, zones_r, zones_l = [], [], [], []
+    for drop in drops:
+        cells = [sampler.at(drop, lateral) for lateral in laterals]
+        vertical.append([cell.vertical for cell in cells])
+        horizontal.append([cell.horizontal for cell in cells])
+        zones_r.append([cell.zones[0] for cell in cells])
+        zones_l.append([cell.zones[1] for cell in cells])
+    flat_v = [abs(v) for row in vertical for v in row]
+    flat_h = [abs(h) for row in horizontal for h in row]
+    return {
+        "drop_mm": drops,
+        "lateral_mm": laterals,
+        "vertical_base_up_right": vertical,
+        "horizontal_base_in": horizontal,
+        "zones": {"right": zones_r, "left": zones_l},
+        "scale": {"vertical_max_abs": max(flat_v), "horizontal_max_abs": max(flat_h),
+                  "unit": "prism dioptres"},
+        "axes": {
+            "drop_mm": "how far both eyes have dropped below the primary position, mm on "
+                       "the lens plane (they converge as they drop)",
+            "lateral_mm": "how far both eyes have turned together, mm on the lens plane; "
+                          "positive toward the wearer's right",
+        },
+    }
+
+
+def reading_path(sampler: NetSampler, depth_mm: float, step_mm: float) -> list[dict[str, Any]]:
+    """Net prism down the reading path (straight ahead, converging), with each eye's point."""
+    path = []
+    for drop in _steps(0.0, depth_mm, step_mm):
+        net = sampler.at(drop)
+        path.append({
+            "drop_mm": drop,
+            "vertical_base_up_right": net.vertical,
+            "horizontal_base_in": net.horizontal,
+            "points": {eye: dict(zip(("in_mm", "up_mm"), sampler.geometry.coords(eye, drop),
+                                     strict=True)) for eye in EYES},
+        })
+    return path
+
+
+def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float,
+                      step_mm: float = 0.5) -> float | None:
+    """The smallest drop down the reading path at which the vertical imbalance reaches
+    ``threshold`` (found to a few micrometres), or None if it stays below it to
+    ``depth_mm``."""
+
+    def over(drop: float) -> bool:
+        return abs(sampler.at(drop).vertical) >= threshold
+
+    if over(0.0):
+        return 0.0
+    previous = 0.0
+    drops = _steps(step_mm, depth_mm, step_mm)
+    if not drops or drops[-1] < depth_mm:
+        drops.append(depth_mm)
+    for drop in drops:
+        if over(drop):
+            low, high = previous, drop
+            for _ in range(_BISECTIONS):
+                middle = (low + high) / 2.0
+                low, high = (low, middle) if over(middle) else (middle, high)
+            return high
+        previous = drop
+    return None

@@ -1,0 +1,202 @@
+"""Finished cases: a remedy applied to a copy of the case document through the case
+keys, the figures such a document gives at distance and at the reading point, and
+the record of one remedy (``Remedy``) that the remedy modules fill in.
+
+Every remedy's ``applied_case`` is built here and read back through the same
+strict reader as any other case, so evaluating it gives the finished figures.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from pycore.documents.cases import Case, read_case
+from pycore.errors import CaseError
+from pycore.optics.eyes import EYES, Eye
+from pycore.optics.power import Prescription
+from pycore.optics.prism import Prism
+from pycore.reading.imbalance_map import NetSampler
+from pycore.reading.options import SECTION, ReadingZoneOptions
+from pycore.reading.reading_point import ReadingGeometry, reading_geometry
+
+_PRESCRIPTION_KEYS = ("rx", "sphere", "cylinder", "axis")
+_NEAR_DESIGN_KEYS = ("add", "segment", "progressive", "slab_off")
+
+
+@dataclass(frozen=True)
+class Figures:
+    """Net prism (prism dioptres) at distance and at the reading point of one case."""
+
+    distance_vertical: float
+    distance_horizontal: float
+    near_vertical: float
+    near_horizontal: float
+    geometry: ReadingGeometry
+
+    @classmethod
+    def of(cls, case: Case) -> Figures:
+        geometry = reading_geometry(case)
+        sampler = NetSampler(case, geometry)
+        distance, near = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
+        return cls(distance.vertical, distance.horizontal, near.vertical, near.horizontal,
+                   geometry)
+
+
+def copy_document(case: Case) -> dict[str, Any]:
+    # A JSON round trip: the document came from JSON, and this is several times
+    # faster than copy.deepcopy for such plain data.
+    copied: dict[str, Any] = json.loads(json.dumps(case.document))
+    return copied
+
+
+def eye_document(document: dict[str, Any], eye: Eye) -> dict[str, Any]:
+    found = document[eye]
+    assert isinstance(found, dict)
+    return found
+
+
+def set_prescription(eye_doc: dict[str, Any], rx: Prescription) -> None:
+    """Write the prescription as sphere, cylinder and axis (replacing a written ``rx``)."""
+    for key in _PRESCRIPTION_KEYS:
+        eye_doc.pop(key, None)
+    eye_doc.update({"sphere": rx.sphere, "cylinder": rx.cylinder, "axis": rx.axis})
+
+
+def set_prism(eye_doc: dict[str, Any], prism: Prism) -> None:
+    """Write the prism as components (replacing any written or directional form)."""
+    eye_doc["prism"] = {"base_in": prism.base_in, "base_up": prism.base_up}
+
+
+def make_single_vision(eye_doc: dict[str, Any], rx: Prescription) -> None:
+    """Turn the lens into a single-vision lens of ``rx``: no add, segment, progressive or
+    slab-off."""
+    for key in _NEAR_DESIGN_KEYS:
+        eye_doc.pop(key, None)
+    set_prescription(eye_doc, rx)
+
+
+def near_prescription(case: Case, eye: Eye) -> Prescription:
+    """The reading prescription: the distance prescription with the add on the sphere."""
+    lens = case.lens(eye)
+    rx = lens.prescription
+    return Prescription(rx.sphere + lens.add, rx.cylinder, rx.axis)
+
+
+def set_section(document: dict[str, Any], **settings: Any) -> None:
+    """Change reading-zone settings of the document (keeping the others)."""
+    section = dict(document.get(SECTION) or {})
+    section.update(settings)
+    document[SECTION] = section
+
+
+def set_points(document: dict[str, Any], names: tuple[str, ...],
+               explicit: dict[str, ReadingGeometry] | None = None) -> None:
+    """Points from the fitting by name, or, without a fitting, the same points written out
+    from ``explicit`` (name -> geometry of the finished case)."""
+    if "fitting" in document:
+        document["points"] = list(names)
+        return
+    assert explicit is not None
+    points = []
+    for name in names:
+        geometry = explicit[name]
+        gaze = geometry.distance_point() if name == "distance" else geometry.reading_point()
+        point: dict[str, Any] = {"name": name}
+        point.update({eye: gaze.on(eye).as_dict() for eye in EYES})
+        points.append(point)
+    document["points"] = points
+
+
+def finished(document: dict[str, Any]) -> Case:
+    """The document read back as a case (it must pass the same validation as any input)."""
+    return read_case(document)
+
+
+def with_written_points(document: dict[str, Any], names: tuple[str, ...]) -> Case:
+    """Give the document its points (by name with a fitting, written out without one)
+    and read it back."""
+    if "fitting" in document:
+        set_points(document, names)
+        return finished(document)
+    document["points"] = [{"name": "placeholder", "right": {}, "left": {}}]
+    geometry = reading_geometry(finished(document))
+    set_points(document, names, {name: geometry for name in names})
+    return finished(document)
+
+
+@dataclass
+class Remedy:
+    """One remedy's figures and words (built here; shown as a dict)."""
+
+    id: str
+    name: str
+    summary: str = ""
+    available: bool = True
+    why_not: str | None = None
+    changes: list[str] = field(default_factory=list)
+    details: dict[str, Any] = field(default_factory=dict)
+    warnings: list[str] = field(default_factory=list)
+    applied: dict[str, Any] | None = None
+    figures: Figures | None = None
+    distance_from: str = "finished case"
+
+    def as_dict(self, threshold: float) -> dict[str, Any]:
+        result: dict[str, Any] = {
+            "id": self.id, "name": self.name, "available": self.available,
+            "why_not": self.why_not, "summary": self.summary, "changes": self.changes,
+            "details": self.details, "warnings": self.warnings,
+            "distance": None, "near": None, "within_threshold": None,
+            "applied_case": self.applied if self.available else None,
+        }
+        if self.available and self.figures is not None:
+            f = self.figures
+            result["distance"] = {"vertical_base_up_right": f.distance_vertical,
+                                  "horizontal_base_in": f.distance_horizontal,
+                                  "from": self.distance_from}
+            result["near"] = {"vertical_base_up_right": f.near_vertical,
+                              "horizontal_base_in": f.near_horizontal,
+                              "from": "finished case"}
+            result["within_threshold"] = {"distance": abs(f.distance_vertical) < threshold,
+                                          "near": abs(f.near_vertical) < threshold}
+        return result
+
+    def refuse(self, reason: str) -> Remedy:
+        self.available, self.why_not = False, reason
+        return self
+
+
+@dataclass(frozen=True)
+class Baseline:
+    """The case as it is: its figures, settings and the imbalance to correct."""
+
+    case: Case
+    options: ReadingZoneOptions
+    figures: Figures
+
+    @property
+    def near(self) -> float:
+        return self.figures.near_vertical
+
+
+def round_to_step(value: float, step: float) -> float:
+    """``value`` to the nearest multiple of ``step`` (halves away from zero)."""
+    return math.copysign(math.floor(abs(value) / step + 0.5) * step, value)
+
+
+def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
+                  distance_from_original: bool = False) -> Remedy:
+    try:
+        case = finished(document)
+        figures = Figures.of(case)
+    except CaseError as exc:
+        return remedy.refuse(f"The finished case would not be valid: {exc.message}")
+    if distance_from_original:
+        base = baseline.figures
+        figures = Figures(base.distance_vertical, base.distance_horizontal,
+                          figures.near_vertical, figures.near_horizontal, figures.geometry)
+        remedy.distance_from = "the distance spectacles, unchanged"
+    remedy.applied, remedy.figures = document, figures
+    return remedy

@@ -1,0 +1,157 @@
+"""Remedies for a vertical imbalance at the reading point, quantified side by side.
+
+For the same case each remedy says what it changes, what it leaves at distance
+and at the reading point (net prism dioptres, signs as in the case format), and
+carries ``applied_case``: the case document with the remedy applied through the
+case keys, so that evaluating it gives the finished figures everywhere.
+
+The remedies themselves live in pycore.reading.remedies.lens_changes (slab-off, reverse
+slab, dissimilar segments, lowered centres) and pycore.reading.remedies.near_wear (near-only
+prism, reading spectacles, contact lenses); this module lists them side by side
+and suggests one.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any
+
+from pycore.documents.cases import Case, read_case
+from pycore.errors import CaseError
+from pycore.reading.options import options_of
+from pycore.reading.remedies.finished_case import (
+    Baseline,
+    Figures,
+    Remedy,
+    copy_document,
+    with_figures,
+)
+from pycore.reading.remedies.lens_changes import dissimilar_segments, lower_centres, slab_off
+from pycore.reading.remedies.near_wear import contact_lenses, near_prism_split, reading_spectacles
+
+CAUTIONS = (
+    "Whether to correct, and how much, is a clinical decision for the practitioner.",
+    "A slab-off is a clinical and laboratory decision: confirm it with the laboratory and "
+    "verify the prism on the finished lenses.",
+    "Verify every figure on the finished spectacles and with the wearer.",
+)
+
+ORDER = ("none", "slab_off", "reverse_slab", "dissimilar_segments", "lower_centres",
+         "near_prism_split", "reading_spectacles", "contact_lenses")
+"""Every remedy id, in the order shown."""
+_PREFERENCE = ("slab_off", "dissimilar_segments", "lower_centres", "reverse_slab",
+               "near_prism_split", "reading_spectacles", "contact_lenses")
+
+
+def doing_nothing(base: Baseline) -> Remedy:
+    remedy = Remedy("none", "No change")
+    threshold = base.options.threshold
+    under = abs(base.near) < threshold and abs(base.figures.distance_vertical) < threshold
+    remedy.summary = (f"The vertical imbalance stays under {threshold:.2f} prism dioptre at "
+                      "distance and at the reading point." if under else
+                      f"The vertical imbalance reaches {threshold:.2f} prism dioptre or more; "
+                      "leaving it is a choice for the practitioner and the wearer.")
+    remedy.changes = ["Nothing: the spectacles as ordered."]
+    remedy.details = {"under_threshold": under}
+    return with_figures(remedy, copy_document(base.case), base)
+
+
+_BUILDERS: dict[str, Callable[[Baseline], Remedy]] = {
+    "none": doing_nothing,
+    "slab_off": lambda base: slab_off(base),
+    "reverse_slab": lambda base: slab_off(base, reverse=True),
+    "dissimilar_segments": dissimilar_segments,
+    "lower_centres": lower_centres,
+    "near_prism_split": near_prism_split,
+    "reading_spectacles": reading_spectacles,
+    "contact_lenses": contact_lenses,
+}
+
+
+def all_remedies(case: Case) -> tuple[Baseline, list[Remedy]]:
+    """Every remedy for the case, in ``ORDER``."""
+    base = Baseline(case, options_of(case), Figures.of(case))
+    return base, [_BUILDERS[key](base) for key in ORDER]
+
+
+def recommended(base: Baseline, remedies: list[Remedy]) -> str:
+    """A suggestion, not a decision: "none" when the case is already under the threshold
+    at distance and at the reading point; else the first remedy, in the order of
+    preference, that brings the reading point under it without leaving distance over it
+    (or worse than it was), preferring one with no warnings."""
+    threshold = base.options.threshold
+    before = abs(base.figures.distance_vertical)
+    if abs(base.near) < threshold and before < threshold:
+        return "none"
+
+    def good(remedy: Remedy) -> bool:
+        figures = remedy.figures
+        if not remedy.available or figures is None:
+            return False
+        distance = abs(figures.distance_vertical)
+        return abs(figures.near_vertical) < threshold and (
+            distance < threshold or distance <= before + 1e-9)
+
+    by_id = {remedy.id: remedy for remedy in remedies}
+    for strict in (True, False):
+        for key in _PREFERENCE:
+            if good(by_id[key]) and not (strict and by_id[key].warnings):
+                return key
+    return "none"
+
+
+def remedies_section(case: Case, result: dict[str, Any]) -> dict[str, Any] | None:
+    """The ``remedies`` result: every remedy side by side and the suggested one."""
+    if not case.document:
+        return None
+    base, remedies = all_remedies(case)
+    threshold = base.options.threshold
+    choice = recommended(base, remedies)
+    entries = [remedy.as_dict(threshold) for remedy in remedies]
+    for entry in entries:
+        entry["recommended"] = entry["id"] == choice
+        entry["cautions"] = [caution for caution in CAUTIONS
+                             if "slab-off" not in caution or "slab" in entry["id"]]
+    return {
+        "threshold": threshold,
+        "before": {"distance": base.figures.distance_vertical, "near": base.near},
+        "order": list(ORDER),
+        "recommended": choice,
+        "options": entries,
+        "cautions": list(CAUTIONS),
+        "summary_lines": _summary(base, entries, choice),
+    }
+
+
+def _summary(base: Baseline, entries: list[dict[str, Any]], choice: str) -> list[str]:
+    lines = [f"Remedies (vertical imbalance, threshold {base.options.threshold:.2f}; "
+             "+ = base up before the right eye)",
+             f"  {'':46} {'distance':>9} {'near':>9}"]
+    for entry in entries:
+        mark = "*" if entry["recommended"] else " "
+        if entry["available"]:
+            lines.append(f" {mark}{entry['name'][:46]:46} "
+                         f"{entry['distance']['vertical_base_up_right']:+9.2f} "
+                         f"{entry['near']['vertical_base_up_right']:+9.2f}")
+            lines.append(f"     {entry['summary']}")
+        else:
+            lines.append(f" {mark}{entry['name'][:46]:46} {'-':>9} {'-':>9}  ({entry['why_not']})")
+    lines.append(f"  * suggested: {choice.replace('_', ' ')}; "
+                 "the choice is a clinical decision.")
+    lines.extend(f"  ! {caution}" for caution in CAUTIONS)
+    return lines
+
+
+def finished_case(case_document: Any, remedy_id: Any) -> tuple[dict[str, Any], dict[str, Any]]:
+    """(the remedy's entry, its finished case document); refusals as CaseError."""
+    if remedy_id not in ORDER:
+        raise CaseError("remedy", f"remedy must be one of {', '.join(ORDER)}.", remedy_id)
+    case = read_case(case_document)
+    section = remedies_section(case, {})
+    assert section is not None
+    entry = next(e for e in section["options"] if e["id"] == remedy_id)
+    if not entry["available"] or entry["applied_case"] is None:
+        raise CaseError("remedy", f"remedy {remedy_id} does not apply to this case: "
+                                  f"{entry['why_not']}", remedy_id)
+    document: dict[str, Any] = entry.pop("applied_case")
+    return entry, document

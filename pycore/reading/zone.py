@@ -1,0 +1,209 @@
+"""The ``reading_zone`` result section: where the eyes read, what each lens design is,
+the imbalance down the reading path and over the lower half of the lenses, the depth
+where it passes the threshold, the image jump at each segment top and the
+fitting-error sensitivity.
+
+Net values as in the case format (prism dioptres): ``vertical_base_up_right`` =
+base_up(right) - base_up(left), ``horizontal_base_in`` = base_in(right) +
+base_in(left). Gaze as in pycore.reading.reading_point (mm on the lens plane).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from pycore.documents.cases import Case
+from pycore.optics.eyes import EYES, Eye
+from pycore.reading.fitting_errors import sensitivity
+from pycore.reading.imbalance_map import (
+    NetSampler,
+    imbalance_map,
+    map_depth_mm,
+    reading_path,
+    threshold_drop_mm,
+)
+from pycore.reading.options import THRESHOLD_SOURCE, options_of
+from pycore.reading.reading_point import ReadingGeometry, reading_geometry
+from pycore.spectacles.lens import Lens
+from pycore.spectacles.progressive import THINNING_PRISM_PER_ADD
+
+IMAGE_JUMP_SOURCE = ("image jump = add x distance from the segment top to the segment "
+                     "optical centre in cm (Durham Technical Community College opticianry "
+                     "handout on bifocal prism)")
+THINNING_SOURCE = "about 0.6 x add, base down before both eyes (Meister, 1998)"
+_INSET_MISMATCH_MM = 1.0
+
+
+def describe_design(lens: Lens, eye: Eye, geometry: ReadingGeometry) -> dict[str, Any]:
+    """What the lens is and where its parts lie (mm from the distance reference point)."""
+    if lens.progressive is not None:
+        design = lens.progressive
+        index = 0 if eye == "right" else 1
+        return {
+            "kind": "progressive",
+            "add": lens.add,
+            "fitting_cross": {"in_mm": 0.0, "up_mm": design.fitting_cross_up_mm},
+            "prism_reference_point": {"in_mm": 0.0, "up_mm": 0.0},
+            "near_reference_point": {"in_mm": design.near_inset_mm,
+                                     "up_mm": design.near_point_up_mm},
+            "corridor_mm": design.corridor_mm,
+            "near_inset_mm": design.near_inset_mm,
+            "convergence_inset_mm": geometry.near_inset_mm[index],
+            "thinning_prism_base_down": design.thinning_prism_base_down,
+        }
+    if lens.segment is not None and lens.add:
+        segment = lens.segment
+        outline = segment.outline
+        usual = outline.usual_optical_centre_below_top_mm if outline is not None else None
+        if usual is not None and abs(usual - segment.optical_centre_below_top_mm) < 1e-9:
+            rule = f"by the usual rule: {outline.rule}" if outline is not None else ""
+        else:
+            rule = "as given in the case (manual placement)"
+        centre_in, centre_up = segment.optical_centre_mm
+        return {
+            "kind": "bifocal",
+            "add": lens.add,
+            "shape": outline.shape if outline is not None else None,
+            "size_mm": outline.size_mm if outline is not None else None,
+            "segment_depth_mm": outline.depth_mm if outline is not None else None,
+            "top_mm": segment.top_mm,
+            "optical_centre": {"in_mm": centre_in, "up_mm": centre_up},
+            "optical_centre_below_top_mm": segment.optical_centre_below_top_mm,
+            "optical_centre_rule": rule,
+        }
+    return {"kind": "single_vision", "add": lens.add}
+
+
+def image_jumps(case: Case) -> dict[str, Any]:
+    """Prism met crossing each segment top (prism dioptres; base down for a plus add with
+    the segment optical centre below the top)."""
+    jumps: dict[str, Any] = {"source": IMAGE_JUMP_SOURCE}
+    amounts = {}
+    for eye in EYES:
+        lens = case.lens(eye)
+        if lens.segment is None or not lens.add:
+            jumps[eye] = None
+            continue
+        jump = lens.segment.image_jump(lens.add)
+        amounts[eye] = jump
+        way = "base down" if jump > 0 else ("base up" if jump < 0 else "none")
+        jumps[eye] = {"amount": abs(jump), "base_up": -jump, "at_up_mm": lens.segment.top_mm,
+                      "in_words": f"{abs(jump):.2f} {way}" if jump else "no image jump"}
+    step = None
+    if len(amounts) == 2 and case.right.segment is not None and case.left.segment is not None \
+            and abs(case.right.segment.top_mm - case.left.segment.top_mm) < 1e-9:
+        step = -(amounts["right"] - amounts["left"])
+    jumps["vertical_step_at_tops"] = step
+    return jumps
+
+
+def design_warnings(case: Case, geometry: ReadingGeometry) -> list[str]:
+    warnings = []
+    designs = [case.lens(eye).progressive for eye in EYES]
+    right, left = designs
+    if right is not None and left is not None \
+            and abs(right.thinning_prism_base_down - left.thinning_prism_base_down) > 1e-9:
+        differ = right.thinning_prism_base_down - left.thinning_prism_base_down
+        warnings.append(f"The thinning prism differs between the eyes by {abs(differ):.2f} "
+                        "prism dioptres: it is meant to be yoked (equal), and the difference "
+                        "is a vertical imbalance everywhere.")
+    if (right is None) != (left is None):
+        warnings.append("Only one lens is a progressive: the eyes meet different add prism "
+                        "below the fitting cross.")
+    for index, eye in enumerate(EYES):
+        design = designs[index]
+        if design is not None and geometry.worn_as == "spectacles" and abs(
+                design.near_inset_mm - geometry.near_inset_mm[index]) >= _INSET_MISMATCH_MM:
+            warnings.append(
+                f"The {eye} near zone is inset {design.near_inset_mm:.1f} mm but the eye "
+                f"converges {geometry.near_inset_mm[index]:.1f} mm at this working distance: "
+                "the add adds horizontal prism at the reading point.")
+    return warnings
+
+
+def reading_zone_section(case: Case, result: dict[str, Any]) -> dict[str, Any]:
+    """The reading-zone result for a case (see the module docstring)."""
+    options = options_of(case)
+    geometry = reading_geometry(case)
+    sampler = NetSampler(case, geometry)
+    depth = map_depth_mm(case, options.map_depth_mm, geometry)
+    distance, reading = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
+    crossing = threshold_drop_mm(sampler, options.threshold, depth)
+    errors = sensitivity(case, geometry, options.threshold)
+    warnings = design_warnings(case, geometry) + errors["warnings"]
+    section: dict[str, Any] = {
+        "threshold": {"vertical": options.threshold, "source": THRESHOLD_SOURCE},
+        "geometry": geometry.as_dict(),
+        "designs": {eye: describe_design(case.lens(eye), eye, geometry) for eye in EYES},
+        "at_distance": _net(distance.vertical, distance.horizontal, distance.zones),
+        "at_reading_point": _net(reading.vertical, reading.horizontal, reading.zones),
+        "threshold_drop_mm": crossing,
+        "threshold_point": ({eye: geometry.lens_point(eye, crossing).as_dict() for eye in EYES}
+                            if crossing is not None else None),
+        "over_threshold_at_reading_point": abs(reading.vertical) >= options.threshold,
+        "path": reading_path(sampler, depth, options.map_step_mm),
+        "map": imbalance_map(sampler, depth, options.map_half_width_mm, options.map_step_mm),
+        "image_jump": image_jumps(case),
+        "thinning_prism": _thinning(case),
+        "sensitivity": errors,
+        "warnings": warnings,
+    }
+    section["map"]["reading_point"] = {"drop_mm": geometry.reading_drop_mm, "lateral_mm": 0.0}
+    section["map"]["threshold_drop_mm"] = crossing
+    section["summary_lines"] = _summary(section, options.threshold)
+    return section
+
+
+def _net(vertical: float, horizontal: float, zones: tuple[str, str]) -> dict[str, Any]:
+    return {"vertical_base_up_right": vertical, "horizontal_base_in": horizontal,
+            "zones": {"right": zones[0], "left": zones[1]}}
+
+
+def _thinning(case: Case) -> dict[str, Any] | None:
+    adds = [case.lens(eye).add for eye in EYES if case.lens(eye).progressive is not None]
+    if not adds:
+        return None
+    return {"suggested_base_down": THINNING_PRISM_PER_ADD * max(adds),
+            "given": {eye: (case.lens(eye).progressive.thinning_prism_base_down  # type: ignore[union-attr]
+                            if case.lens(eye).progressive is not None else None)
+                      for eye in EYES},
+            "source": THINNING_SOURCE,
+            "note": "yoked thinning prism shows before each eye and cancels in the net"}
+
+
+def _vertical_words(value: float) -> str:
+    if abs(value) < 0.005:
+        return "no vertical imbalance"
+    eye = "right" if value > 0 else "left"
+    return f"{abs(value):.2f} base up before the {eye} eye"
+
+
+def _summary(section: dict[str, Any], threshold: float) -> list[str]:
+    geometry = section["geometry"]
+    reading = geometry["reading_point"]
+    lines = ["Reading zone",
+             f"  reading point ({geometry['rule'].replace('_', ' ')}): "
+             f"R {reading['right']['in_mm']:.1f} in, {reading['right']['up_mm']:.1f} up; "
+             f"L {reading['left']['in_mm']:.1f} in, {reading['left']['up_mm']:.1f} up"
+             + ("  (fitting assumed: PD 32/32 mm)" if geometry["fitting_assumed"] else "")]
+    distance = section["at_distance"]["vertical_base_up_right"]
+    near = section["at_reading_point"]["vertical_base_up_right"]
+    lines.append(f"  at distance: {_vertical_words(distance)}; "
+                 f"at the reading point: {_vertical_words(near)}")
+    drop = section["threshold_drop_mm"]
+    if drop is None:
+        lines.append(f"  the vertical imbalance stays under {threshold:.2f} down to "
+                     f"{section['map']['drop_mm'][-1]:.0f} mm")
+    elif drop == 0:
+        lines.append(f"  the vertical imbalance is {threshold:.2f} (rule of thumb) or more "
+                     "already in the primary position")
+    else:
+        lines.append(f"  the vertical imbalance reaches {threshold:.2f} (rule of thumb) "
+                     f"{drop:.1f} mm below the primary position")
+    for eye in EYES:
+        jump = section["image_jump"][eye]
+        if jump:
+            lines.append(f"  image jump at the {eye} segment top: {jump['in_words']}")
+    lines.extend(f"  ! {warning}" for warning in section["warnings"])
+    return lines
+

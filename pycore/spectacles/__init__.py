@@ -1,0 +1,1 @@
+"""The spectacles as fitted: lens designs, segments, fitting, frame, decentration, gaze."""

@@ -1,0 +1,49 @@
+"""Prism at many points of one lens, quickly: the sum of pycore.spectacles.lens ``Lens.prism_at``
+as plain numbers, for maps and searches that visit hundreds of points.
+
+``Lens.prism_at`` stays the reference (tests check the two agree); this only
+skips building a validated value for every part at every point.
+"""
+
+from __future__ import annotations
+
+from pycore.optics.eyes import Eye, nasal_sign
+from pycore.spectacles.lens import Lens
+
+
+class LensSampler:
+    """Total prism (base_in, base_up) and zone at (in_mm, up_mm) of ``lens`` before ``eye``."""
+
+    def __init__(self, lens: Lens, eye: Eye) -> None:
+        power = lens.power
+        self._lens = lens
+        self._xx, self._xy, self._yy = power.xx, power.xy, power.yy
+        self._sign = nasal_sign(eye)
+        thinning = lens.progressive.thinning_prism_base_down if (
+            lens.progressive is not None and lens.add) else 0.0
+        self._base_in = lens.prism.base_in
+        self._base_up = lens.prism.base_up - thinning
+
+    def at(self, in_mm: float, up_mm: float) -> tuple[float, float, str]:
+        """(base_in, base_up, zone) where the line of sight crosses the lens at the point."""
+        lens = self._lens
+        x, y = self._sign * in_mm / 10.0, up_mm / 10.0
+        base_in = self._base_in - self._sign * (self._xx * x + self._xy * y)
+        base_up = self._base_up - (self._xy * x + self._yy * y)
+        zone = "distance"
+        segment = lens.segment
+        if (segment is not None and lens.add and up_mm <= segment.top_mm
+                and (segment.outline is None or segment.outline.contains(
+                    in_mm - segment.optical_centre_in_mm, segment.top_mm - up_mm))):
+            zone = "segment"
+            centre_in, centre_up = segment.optical_centre_mm
+            base_in -= lens.add * (in_mm - centre_in) / 10.0
+            base_up -= lens.add * (up_mm - centre_up) / 10.0
+        elif lens.progressive is not None and lens.add:
+            zone = lens.progressive.zone(up_mm)
+            add_in, add_up = lens.progressive.add_prism_components(in_mm, up_mm, lens.add)
+            base_in += add_in
+            base_up += add_up
+        if lens.slab_off is not None and up_mm <= lens.slab_off.line_mm:
+            base_up += lens.slab_off.base_up
+        return base_in, base_up, zone
