@@ -7,7 +7,7 @@
                                       then every test (core, CLI, and the app in Chromium)
     python3 build.py --check          build, then verify dist/ against its own precache list
 
-Standard library only; the project's wheel is made with ``python -m pip wheel``.
+Standard library only; the browser's wheel of the core is written here with ``zipfile``.
 """
 
 from __future__ import annotations
@@ -86,38 +86,81 @@ def ensure_npm() -> None:
 
 
 # ---------------------------------------------------------------- the wheel
+WEB_LEFT_OUT = ("pycore/__main__.py", "pycore/interfaces/cli.py", "pycore/interfaces/commands/",
+                "pycore/py.typed")
+"""What the browser never runs: the command line (the worker imports pycore.interfaces.bridge)."""
+
+
 def core_sources() -> list[Path]:
     files = [ROOT / "pyproject.toml", *sorted((ROOT / "pycore").rglob("*"))]
-    return [f for f in files if f.is_file() and "__pycache__" not in f.parts]
+    return [f for f in files if f.is_file() and "__pycache__" not in f.parts
+            and f.suffix in (".py", ".json", ".toml", ".typed")]
+
+
+def strip_python(source: str) -> str:
+    """The same module without docstrings and comments (the browser never shows them).
+
+    The syntax tree is kept exactly: parse, drop each docstring (a lone ``pass`` where it
+    was the whole body), and write the tree back out.
+    """
+    import ast
+
+    tree = ast.parse(source)
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Module | ast.ClassDef | ast.FunctionDef | ast.AsyncFunctionDef):
+            body = node.body
+            if (body and isinstance(body[0], ast.Expr) and isinstance(body[0].value, ast.Constant)
+                    and isinstance(body[0].value.value, str)):
+                node.body = body[1:] or [ast.Pass()]
+    return ast.unparse(tree) + "\n"
+
+
+def web_wheel_files() -> dict[str, bytes]:
+    """Archive name -> bytes for the core as the browser runs it."""
+    files: dict[str, bytes] = {}
+    for path in core_sources():
+        name = path.relative_to(ROOT).as_posix()
+        if not name.startswith("pycore/") or name.startswith(WEB_LEFT_OUT):
+            continue
+        data = path.read_bytes()
+        files[name] = strip_python(data.decode()).encode() if path.suffix == ".py" else data
+    return files
+
+
+def _record_hash(data: bytes) -> str:
+    return base64.urlsafe_b64encode(hashlib.sha256(data).digest()).decode().rstrip("=")
 
 
 def build_wheel() -> Path:
-    """The project's wheel, rebuilt only when pycore/ or pyproject.toml changed."""
-    key = sha256(b"".join(str(f.relative_to(ROOT)).encode() + b"\0" + f.read_bytes()
-                          for f in core_sources()))[:16]
-    out = CACHE / f"wheel-{key}"
-    found = sorted(out.glob("*.whl")) if out.is_dir() else []
-    if found:
-        return found[0]
-    CACHE.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix="wheel-tmp-", dir=CACHE))   # several builds may overlap
-    env = dict(os.environ, SOURCE_DATE_EPOCH="1577836800")   # reproducible zip timestamps
-    cmd = [sys.executable, "-m", "pip", "wheel", "--no-deps", "--quiet", "-w", str(tmp), str(ROOT)]
-    try:   # a recent setuptools here spares the isolated build environment
-        import setuptools  # type: ignore[import-untyped]
-        if int(setuptools.__version__.split(".")[0]) >= 77:
-            cmd.insert(4, "--no-build-isolation")
-    except ImportError:
-        pass
-    subprocess.run(cmd, check=True, env=env, cwd=ROOT)
-    wheels = sorted(tmp.glob("*.whl"))
-    if len(wheels) != 1:
-        sys.exit(f"build.py: expected one wheel, found {wheels}")
-    try:
-        tmp.rename(out)
-    except OSError:   # another build finished the same wheel first
-        shutil.rmtree(tmp, ignore_errors=True)
-    return out / wheels[0].name
+    """The core as a wheel for the browser (pure Python, py3-none-any), written directly:
+    only what runs there, docstrings and comments left out. Cached by content."""
+    import tomllib
+    import zipfile
+
+    version = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["version"]
+    files = web_wheel_files()
+    key = sha256(b"".join(n.encode() + b"\0" + d for n, d in sorted(files.items())))[:16]
+    wheel = CACHE / f"wheel-{key}" / f"prism_desk-{version}-py3-none-any.whl"
+    if wheel.exists():
+        return wheel
+    info = f"prism_desk-{version}.dist-info"
+    files[f"{info}/METADATA"] = (f"Metadata-Version: 2.1\nName: {WHEEL_NAME}\n"
+                                 f"Version: {version}\n").encode()
+    files[f"{info}/WHEEL"] = (b"Wheel-Version: 1.0\nGenerator: build.py\n"
+                              b"Root-Is-Purelib: true\nTag: py3-none-any\n")
+    record = [f"{name},sha256={_record_hash(data)},{len(data)}"
+              for name, data in sorted(files.items())]
+    files[f"{info}/RECORD"] = ("\n".join([*record, f"{info}/RECORD,,"]) + "\n").encode()
+    wheel.parent.mkdir(parents=True, exist_ok=True)
+    part = wheel.with_suffix(f".{os.getpid()}.part")
+    with zipfile.ZipFile(part, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as archive:
+        for name, data in sorted(files.items()):
+            entry = zipfile.ZipInfo(name, date_time=(2020, 1, 1, 0, 0, 0))
+            entry.compress_type = zipfile.ZIP_DEFLATED
+            entry.external_attr = 0o644 << 16
+            archive.writestr(entry, data)
+    part.replace(wheel)   # several builds may overlap: the last identical file wins
+    return wheel
 
 
 def lock_file(wheel: Path) -> dict[str, Any]:
@@ -247,6 +290,7 @@ def build() -> None:
         if src.is_file() and src.name != "sw.js":
             (tmp / src.relative_to(WEB)).parent.mkdir(parents=True, exist_ok=True)
             shutil.copyfile(src, tmp / src.relative_to(WEB))
+    minify(tmp)
     html = tmp / "index.html"
     html.write_text(html.read_text().replace("__CSP__", CSP))
     (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
@@ -261,6 +305,26 @@ def build() -> None:
     else:
         sys.exit("build.py: could not replace dist/")
     print(f"build.py: dist/ ready, version {version}, {count} precached files")
+
+
+def minify(root: Path) -> None:
+    """Minify the app's JS and CSS in place with the pinned esbuild (package.json).
+
+    Each file stays a file of its own (no bundling), so module paths, the worker's
+    URL and the service worker's precache list are unchanged.
+    """
+    tool = ROOT / "node_modules" / ".bin" / "esbuild"
+    files = sorted(p for p in root.rglob("*") if p.suffix in (".js", ".css")
+                   and "pyodide" not in p.relative_to(root).parts)
+    if not files:
+        return
+    if not tool.exists():
+        sys.exit("build.py: esbuild is missing from node_modules: run npm ci")
+    cmd = [str(tool), *map(str, files), "--minify", "--log-level=warning",
+           "--charset=utf8", "--legal-comments=none", f"--outdir={root}",
+           f"--outbase={root}", "--allow-overwrite", "--target=es2020,chrome100,safari15"]
+    if subprocess.run(cmd, cwd=ROOT, check=False).returncode != 0:
+        sys.exit("build.py: esbuild could not minify the app's files")
 
 
 def write_service_worker(root: Path) -> tuple[str, int]:
