@@ -13,7 +13,7 @@ from collections.abc import Callable
 from typing import Any
 
 from . import __version__
-from .cases import MAX_DOCUMENT_BYTES, load_json, read_case
+from .cases import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json, read_case
 from .errors import CaseError
 from .evaluate import evaluate
 from .eyes import EYES, Eye
@@ -74,6 +74,21 @@ def _field(payload: Any, key: str) -> Any:
     return payload[key]
 
 
+def _read_request(request_json: str) -> Any:
+    """The request parsed by the one JSON reader; refusals name the payload's own fields."""
+    try:
+        return load_json(request_json, "the request", MAX_NESTING + 1)
+    except CaseError as exc:
+        if "levels deep" in exc.message:
+            raise CaseError("", f"The document is nested more than {MAX_NESTING} levels "
+                                "deep.") from None
+        if exc.field.startswith("payload."):
+            field = exc.field.removeprefix("payload.")
+            raise CaseError(field, exc.message.replace(exc.field, field, 1), exc.value) \
+                from None
+        raise
+
+
 def handle(request_json: str) -> str:
     """Answer one request (JSON text) with one reply (JSON text); never raises."""
     from . import extensions  # noqa: F401  (registers further actions)
@@ -81,7 +96,7 @@ def handle(request_json: str) -> str:
     try:
         if len(request_json) > 2 * MAX_DOCUMENT_BYTES:
             raise CaseError("", "The request is too large.")
-        request = load_json(request_json)
+        request = _read_request(request_json)
         if not isinstance(request, dict) or not isinstance(request.get("action"), str):
             raise CaseError("action", "The request must name an action.")
         name = request["action"]

@@ -8,13 +8,15 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
 from collections.abc import Callable, Sequence
-from typing import Any, NoReturn, TextIO
+from typing import Any, NoReturn
 
-from .cases import MAX_DOCUMENT_BYTES, read_case_text
+from .cases import read_case_text
 from .errors import CaseError
 from .evaluate import evaluate
+from .input_files import read_input
 from .summary import text_summary
 
 DESCRIPTION = """\
@@ -33,6 +35,8 @@ before the right eye (= base down before the left). Positions are mm from each
 eye's distance reference point, in_mm toward the nose, up_mm upward.
 """
 
+__all__ = ["COMMANDS", "main", "read_input", "write_output"]
+
 Command = Callable[[argparse.Namespace], int]
 COMMANDS: dict[str, tuple[str, Command, Callable[[argparse.ArgumentParser], None]]] = {}
 """Further subcommands register here: name -> (help, run, add_arguments)."""
@@ -44,33 +48,40 @@ class _Parser(argparse.ArgumentParser):
         raise SystemExit(2)
 
 
-def read_input(source: str) -> bytes:
-    """The bytes of FILE, or of standard input for '-'; refusals as CaseError."""
+def write_output(text: str) -> None:
+    """Write a command's whole answer to standard output; a failure is a CaseError."""
     try:
-        if source == "-":
-            data = sys.stdin.buffer.read(MAX_DOCUMENT_BYTES + 1)
-        else:
-            with open(source, "rb") as handle:
-                data = handle.read(MAX_DOCUMENT_BYTES + 1)
-    except FileNotFoundError:
-        raise CaseError("", f"There is no file {source!r}.") from None
-    except IsADirectoryError:
-        raise CaseError("", f"{source!r} is a folder, not a case file.") from None
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    except BrokenPipeError:
+        raise
+    except UnicodeEncodeError as exc:
+        _silence_stdout()
+        raise CaseError("output", f"Standard output cannot take the character "
+                                  f"{exc.object[exc.start:exc.start + 1]!r} (its encoding is "
+                                  f"{exc.encoding}); set PYTHONIOENCODING=utf-8.") from None
     except OSError as exc:
-        raise CaseError("", f"{source!r} cannot be read ({exc.strerror}).") from None
-    return data
+        _silence_stdout()
+        raise CaseError("output", f"Standard output cannot be written "
+                                  f"({exc.strerror or exc}).") from None
+
+
+def _silence_stdout() -> None:
+    """Point standard output at the null device, so nothing fails again at exit."""
+    try:
+        fd = sys.stdout.fileno()
+    except (OSError, ValueError, AttributeError):
+        return
+    null = os.open(os.devnull, os.O_WRONLY)
+    os.dup2(null, fd)
+    os.close(null)
 
 
 def _evaluate(args: argparse.Namespace) -> int:
     case = read_case_text(read_input(args.file))
     result = evaluate(case)
-    _write(sys.stdout, text_summary(result) if args.text else json.dumps(result, indent=2) + "\n")
+    write_output(text_summary(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
-
-
-def _write(stream: TextIO, text: str) -> None:
-    stream.write(text)
-    stream.flush()
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -109,4 +120,5 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stderr.write("Stopped.\n")
         return 130
     except BrokenPipeError:
+        _silence_stdout()
         return 0

@@ -4,10 +4,9 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from .cases import load_json
-from .cli import COMMANDS, read_input
+from .cli import COMMANDS, read_input, write_output
 from .deviation import read_deviation, through_spectacles
 from .readers_text import deviation_text
 
@@ -43,10 +42,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    result = through_spectacles(read_deviation(load_json(read_input(args.file))))
-    sys.stdout.write(deviation_text(result) if args.text else json.dumps(result, indent=2)
-                     + "\n")
-    sys.stdout.flush()
+    what = "the deviation file"
+    result = through_spectacles(read_deviation(load_json(read_input(args.file, what), what)))
+    write_output(deviation_text(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
 
 

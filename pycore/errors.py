@@ -34,3 +34,15 @@ class CaseError(ValueError):
 
     def as_dict(self) -> dict[str, Any]:
         return {"field": self.field, "message": self.message}
+
+
+ECHO = 60
+"""At most this many characters of a bad value are echoed in a refusal."""
+
+
+def shown(value: Any, quote: bool = True, limit: int = ECHO) -> str:
+    """``value`` as echoed in a refusal: its repr (or the text itself), cut to ``limit``."""
+    text = repr(value) if quote or not isinstance(value, str) else value
+    if len(text) <= limit:
+        return text
+    return text[:limit - 3] + "..."

@@ -8,6 +8,7 @@ the browser worker does not load them.
 """
 
 from . import (  # noqa: F401  (imported to register)
+    documents,
     reading_options,
     reading_point,
     reading_zone,

@@ -12,12 +12,11 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 from typing import Any
 
 from .bridge import action
 from .cases import read_case, read_case_text
-from .cli import COMMANDS, read_input
+from .cli import COMMANDS, read_input, write_output
 from .errors import CaseError
 from .evaluate import evaluate
 from .reading_zone import reading_zone_section
@@ -74,8 +73,7 @@ def run(args: argparse.Namespace) -> int:
         text = text_summary(result) if args.text else json.dumps(result, indent=2) + "\n"
     else:
         text = json.dumps(finished, indent=2) + "\n"
-    sys.stdout.write(text)
-    sys.stdout.flush()
+    write_output(text)
     return 0
 
 
