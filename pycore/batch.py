@@ -22,6 +22,8 @@ from .cases import load_json, read_case
 from .csvcases import check_header, row_document
 from .errors import CaseError
 from .evaluate import evaluate_point, resolve_points
+from .input_files import read_input
+from .spreadsheet import safe_row
 from .verification_section import evaluate_section
 
 FORMATS = ("csv", "jsonl", "text")
@@ -58,15 +60,11 @@ def folder_items(folder: str) -> tuple[int, Iterator[Item]]:
 
     def items() -> Iterator[Item]:
         for name in names:
-            try:
-                with open(os.path.join(folder, name), "rb") as handle:
-                    data = handle.read()
+            try:   # a regular file, its size checked before it is read
+                data = read_input(os.path.join(folder, name), "the case")
                 yield Item(name, None, load_json(data))
             except CaseError as exc:
                 yield Item(name, None, error=exc)
-            except OSError as exc:
-                yield Item(name, None, error=CaseError("", f"{name} cannot be read "
-                                                           f"({exc.strerror})."))
 
     return len(names), items()
 
@@ -166,7 +164,8 @@ def run_batch(items: Iterable[Item], write: Callable[[dict[str, Any]], None],
 
 
 class ReportWriter:
-    """Writes entries as CSV rows, JSON lines or readable text to a stream."""
+    """Writes entries as CSV rows, JSON lines or readable text to a stream (CSV text cells
+    are made spreadsheet-safe, see pycore.spreadsheet)."""
 
     def __init__(self, stream: TextIO, form: str) -> None:
         if form not in FORMATS:
@@ -175,13 +174,13 @@ class ReportWriter:
         self.form = form
         self._csv = csv.writer(stream, lineterminator="\n") if form == "csv" else None
         if self._csv is not None:
-            self._csv.writerow(CSV_COLUMNS)
+            self._csv.writerow(safe_row(CSV_COLUMNS))
 
     def __call__(self, entry: dict[str, Any]) -> None:
         if self.form == "jsonl":
             self.stream.write(json.dumps(entry, allow_nan=False) + "\n")
         elif self._csv is not None:
-            self._csv.writerows(csv_rows(entry))
+            self._csv.writerows(safe_row(row) for row in csv_rows(entry))
         else:
             self.stream.write(text_block(entry))
 

@@ -35,7 +35,7 @@ before the right eye (= base down before the left). Positions are mm from each
 eye's distance reference point, in_mm toward the nose, up_mm upward.
 """
 
-__all__ = ["COMMANDS", "main", "read_input", "write_output"]
+__all__ = ["COMMANDS", "main", "read_input", "silence_stdout", "write_output"]
 
 Command = Callable[[argparse.Namespace], int]
 COMMANDS: dict[str, tuple[str, Command, Callable[[argparse.ArgumentParser], None]]] = {}
@@ -56,17 +56,17 @@ def write_output(text: str) -> None:
     except BrokenPipeError:
         raise
     except UnicodeEncodeError as exc:
-        _silence_stdout()
+        silence_stdout()
         raise CaseError("output", f"Standard output cannot take the character "
                                   f"{exc.object[exc.start:exc.start + 1]!r} (its encoding is "
                                   f"{exc.encoding}); set PYTHONIOENCODING=utf-8.") from None
     except OSError as exc:
-        _silence_stdout()
+        silence_stdout()
         raise CaseError("output", f"Standard output cannot be written "
                                   f"({exc.strerror or exc}).") from None
 
 
-def _silence_stdout() -> None:
+def silence_stdout() -> None:
     """Point standard output at the null device, so nothing fails again at exit."""
     try:
         fd = sys.stdout.fileno()
@@ -120,5 +120,5 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stderr.write("Stopped.\n")
         return 130
     except BrokenPipeError:
-        _silence_stdout()
+        silence_stdout()
         return 0

@@ -21,8 +21,9 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 from .checks import in_range
-from .errors import CaseError
+from .errors import CaseError, shown
 from .fields import as_object, only_keys, path_of, require
+from .spreadsheet import safe_cell, unguarded
 
 POWER_RANGE_D = (0.25, 6.0)
 OC_RANGE_MM = (40.0, 80.0)
@@ -84,10 +85,10 @@ def make_pair(values: dict[str, Any], where: str) -> StockPair:
         raise CaseError(field, f"{field} must be text of at most {MAX_LABEL} characters.", frame)
     count = values.get("count")
     field = path_of(where, "count")
-    if isinstance(count, bool) or not isinstance(count, (int, float)) or count != int(count) \
-            or not 0 <= count <= MAX_COUNT:
+    if isinstance(count, bool) or not isinstance(count, (int, float)) \
+            or not 0 <= count <= MAX_COUNT or count != int(count):
         raise CaseError(field, f"{field} must be a whole number from 0 to {MAX_COUNT}; "
-                               f"got {count!r}.", count)
+                               f"got {shown(count)}.", count)
     return StockPair(pair_id.strip(), power, oc, frame.strip(), int(count))
 
 
@@ -206,7 +207,8 @@ def _csv_pair(header: list[str], row: list[str], line: int, delimiter: str) -> S
         raise CaseError(where, f"line {line} has {len(row)} cells but the header names "
                                f"{len(header)} columns.")
     cells = {name: (row[i].strip() if i < len(row) else "") for i, name in enumerate(header)}
-    values: dict[str, Any] = {"id": cells["id"], "frame_size": cells.get("frame_size", "")}
+    values: dict[str, Any] = {"id": unguarded(cells["id"]),
+                              "frame_size": unguarded(cells.get("frame_size", ""))}
     for name in ("power", "oc_distance_mm", "count"):
         values[name] = _csv_number(cells[name], f"{where}.{name}", name, delimiter)
     try:
@@ -230,13 +232,14 @@ def _csv_number(cell: str, field: str, name: str, delimiter: str) -> float:
 
 
 def stock_to_csv(pairs: Iterable[StockPair]) -> str:
-    """The stock as CSV text (comma separated), readable again by ``parse_stock_csv``."""
+    """The stock as CSV text (comma separated), readable again by ``parse_stock_csv``;
+    labels a spreadsheet would take for formulas get a leading apostrophe."""
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(COLUMNS)
     for pair in pairs:
-        writer.writerow([pair.id, _power_text(pair.power), f"{pair.oc_distance_mm:g}",
-                         pair.frame_size, pair.count])
+        writer.writerow([safe_cell(pair.id), _power_text(pair.power),
+                         f"{pair.oc_distance_mm:g}", safe_cell(pair.frame_size), pair.count])
     return out.getvalue()
 
 
