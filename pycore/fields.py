@@ -11,7 +11,7 @@ from collections.abc import Callable, Mapping
 from typing import Any, TypeVar
 
 from .checks import finite_number, in_range
-from .errors import CaseError
+from .errors import CaseError, shown
 from .notation import parse_prescription
 from .power import Prescription
 
@@ -37,7 +37,7 @@ def only_keys(obj: Mapping[str, Any], path: str, allowed: tuple[str, ...]) -> No
     """Refuse any key not in ``allowed`` (a mistyped key must never be ignored)."""
     for key in obj:
         if key not in allowed:
-            where = path_of(path, key)
+            where = path_of(path, shown(key, quote=False))
             raise CaseError(where, f"{where} is not a field the tool knows; allowed "
                                    f"{'in ' + path if path else 'at the top'}: "
                                    f"{', '.join(allowed)}.", key)
