@@ -23,7 +23,7 @@ from .csvcases import check_header, row_document
 from .errors import CaseError
 from .evaluate import evaluate_point, resolve_points
 from .input_files import read_input
-from .spreadsheet import safe_row
+from .spreadsheet import SafeWriter
 from .verification_section import evaluate_section
 
 FORMATS = ("csv", "jsonl", "text")
@@ -172,15 +172,15 @@ class ReportWriter:
             raise CaseError("format", f"format must be one of {', '.join(FORMATS)}.", form)
         self.stream = stream
         self.form = form
-        self._csv = csv.writer(stream, lineterminator="\n") if form == "csv" else None
+        self._csv = SafeWriter(stream) if form == "csv" else None
         if self._csv is not None:
-            self._csv.writerow(safe_row(CSV_COLUMNS))
+            self._csv.writerow(CSV_COLUMNS)
 
     def __call__(self, entry: dict[str, Any]) -> None:
         if self.form == "jsonl":
             self.stream.write(json.dumps(entry, allow_nan=False) + "\n")
         elif self._csv is not None:
-            self._csv.writerows(safe_row(row) for row in csv_rows(entry))
+            self._csv.writerows(csv_rows(entry))
         else:
             self.stream.write(text_block(entry))
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import codecs
 import contextlib
 import csv
 import io
@@ -110,20 +111,26 @@ def _check_output(output: str, source: str, replace: bool) -> None:
 def _check_csv(handle: BinaryIO, source: str) -> int:
     """Read the whole CSV once before any report line is written: it must be UTF-8 and
     parse as CSV. Returns the number of data rows (for progress)."""
-    text = io.TextIOWrapper(handle, encoding="utf-8-sig", newline="")
-    reader = csv.reader(text)
+    decoder = codecs.getincrementaldecoder("utf-8-sig")()
+    line = 0
+
+    def decoded() -> Iterator[str]:
+        nonlocal line
+        for raw in handle:
+            line += 1
+            yield decoder.decode(raw)
+        decoder.decode(b"", final=True)
+
     rows = 0
     try:
-        for row in reader:
+        for row in csv.reader(decoded()):
             rows += any(cell.strip() for cell in row)
     except UnicodeDecodeError:
-        raise CaseError("", f"{shown(source)} is not UTF-8 text (a bad byte on or after line "
-                            f"{reader.line_num + 1}); save it as UTF-8 CSV.") from None
+        raise CaseError("", f"{shown(source)} is not UTF-8 text (a bad byte on line {line}); "
+                            "save it as UTF-8 CSV. Nothing was run.") from None
     except csv.Error as exc:
-        raise CaseError("", f"{shown(source)} line {reader.line_num}: {str(exc).rstrip('.')}; "
-                            "nothing was run.") from None
-    finally:
-        text.detach()
+        raise CaseError("", f"{shown(source)} line {line}: {str(exc).rstrip('.')}. Nothing "
+                            "was run.") from None
     handle.seek(0)
     return max(rows - 1, 0)
 

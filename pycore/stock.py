@@ -23,7 +23,7 @@ from typing import Any
 from .checks import in_range
 from .errors import CaseError, shown
 from .fields import as_object, only_keys, path_of, require
-from .spreadsheet import safe_cell, unguarded
+from .spreadsheet import NumberText, SafeWriter, unguarded
 
 POWER_RANGE_D = (0.25, 6.0)
 OC_RANGE_MM = (40.0, 80.0)
@@ -235,11 +235,11 @@ def stock_to_csv(pairs: Iterable[StockPair]) -> str:
     """The stock as CSV text (comma separated), readable again by ``parse_stock_csv``;
     labels a spreadsheet would take for formulas get a leading apostrophe."""
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeWriter(out)
     writer.writerow(COLUMNS)
     for pair in pairs:
-        writer.writerow([safe_cell(pair.id), _power_text(pair.power),
-                         f"{pair.oc_distance_mm:g}", safe_cell(pair.frame_size), pair.count])
+        writer.writerow([pair.id, NumberText(_power_text(pair.power)),
+                         NumberText(f"{pair.oc_distance_mm:g}"), pair.frame_size, pair.count])
     return out.getvalue()
 
 
