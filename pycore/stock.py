@@ -16,7 +16,7 @@ from __future__ import annotations
 import csv
 import io
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, replace
 from typing import Any
 
@@ -144,7 +144,7 @@ def parse_stock_csv(text: str) -> tuple[tuple[StockPair, ...], tuple[RowProblem,
     pairs: list[StockPair] = []
     problems: list[RowProblem] = []
     seen: dict[str, int] = {}
-    for row in reader:
+    for row in _rows(reader, problems):
         line = reader.line_num
         if not any(cell.strip() for cell in row):
             continue
@@ -177,6 +177,17 @@ def parse_stock_csv(text: str) -> tuple[tuple[StockPair, ...], tuple[RowProblem,
     return tuple(pairs), tuple(problems)
 
 
+def _rows(reader: Any, problems: list[RowProblem]) -> Iterator[list[str]]:
+    """The CSV rows; a row the CSV reader cannot read ends the file as a refused line."""
+    try:
+        yield from reader
+    except csv.Error as exc:
+        line = reader.line_num
+        problems.append(RowProblem(line, "", f"line {line} cannot be read as CSV "
+                                             f"({str(exc).rstrip('.')}); the rest were "
+                                             "skipped."))
+
+
 def stock_from_csv(text: str) -> tuple[StockPair, ...]:
     """Stock pairs from CSV text; any refused row refuses the whole file (CaseError)."""
     pairs, problems = parse_stock_csv(text)
@@ -190,10 +201,10 @@ def stock_from_csv(text: str) -> tuple[StockPair, ...]:
 def _header_problem(header: list[str], line: int) -> RowProblem | None:
     for index, name in enumerate(header):
         if name not in COLUMNS:
-            return RowProblem(line, name, f"line {line}, column {index + 1} {name!r} is not a "
+            return RowProblem(line, name, f"line {line}, column {index + 1} {shown(name)} is not a "
                                           f"stock column; allowed: {', '.join(COLUMNS)}.")
         if name in header[:index]:
-            return RowProblem(line, name, f"line {line}, column {name!r} appears twice.")
+            return RowProblem(line, name, f"line {line}, column {shown(name)} appears twice.")
     missing = [name for name in REQUIRED if name not in header]
     if missing:
         return RowProblem(line, missing[0], f"line {line}: the header has no {missing[0]} "
