@@ -49,10 +49,12 @@ CSP = ("default-src 'self'; script-src 'self' 'wasm-unsafe-eval'; worker-src 'se
        "manifest-src 'self'; object-src 'none'; base-uri 'none'; form-action 'none'")
 CSP_HEADER = CSP + "; frame-ancestors 'none'"
 
-MIME = {".wasm": "application/wasm", ".mjs": "text/javascript", ".js": "text/javascript",
+MIME = {".wasm": "application/wasm", ".mjs": "text/javascript; charset=utf-8",
+        ".js": "text/javascript; charset=utf-8",
         ".webmanifest": "application/manifest+json", ".json": "application/json",
         ".whl": "application/zip", ".zip": "application/zip", ".svg": "image/svg+xml",
-        ".png": "image/png", ".css": "text/css", ".html": "text/html"}
+        ".png": "image/png", ".css": "text/css; charset=utf-8",
+        ".html": "text/html; charset=utf-8"}
 
 
 def sha256(data: bytes) -> str:
@@ -377,9 +379,48 @@ def needs_build() -> bool:
 
 
 # ---------------------------------------------------------------- the server
+SERVER_TIMEOUT_S = 15.0
+"""An idle or half-sent connection is closed after this many seconds without progress."""
+LISTEN_QUEUE = 1024
+"""Connections waiting to be accepted (the socketserver default of 5 drops bursts)."""
+
+
 class Handler(http.server.SimpleHTTPRequestHandler):
+    """Serves dist/ only: no listings, nothing outside it (symlinks included), only to
+    requests addressed to 127.0.0.1 or localhost at the server's port."""
+
     extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}  # noqa: RUF012
     quiet = False
+    timeout = SERVER_TIMEOUT_S
+
+    def parse_request(self) -> bool:
+        if not super().parse_request():
+            return False
+        if "\0" in self.path or "%00" in self.path:
+            self.send_error(400, "Bad request: NUL in the path")
+            return False
+        port = int(getattr(self.server, "server_port", 0))
+        host = (self.headers.get("Host") or "").strip().lower()
+        if host not in (f"127.0.0.1:{port}", f"localhost:{port}"):
+            self.send_error(403, "Forbidden: this server answers 127.0.0.1 and localhost only")
+            return False
+        return True
+
+    def send_head(self) -> Any:
+        path = self.translate_path(self.path)
+        paths = [path]
+        if os.path.isdir(path):
+            paths += [os.path.join(path, "index.html"), os.path.join(path, "index.htm")]
+        if not all(_inside(self.directory, p) for p in paths if os.path.lexists(p)):
+            self.send_error(404, "File not found")
+            return None
+        return super().send_head()
+
+    def list_directory(self, path: str | os.PathLike[str]) -> None:
+        self.send_error(404, "File not found")
+
+    def copyfile(self, source: Any, outputfile: Any) -> None:
+        self.connection.sendfile(source)   # the kernel copies; large runtime files stay fast
 
     def end_headers(self) -> None:
         self.send_header("Content-Security-Policy", CSP_HEADER)
@@ -393,8 +434,16 @@ class Handler(http.server.SimpleHTTPRequestHandler):
             super().log_message(format, *args)
 
 
+def _inside(root: str, path: str) -> bool:
+    """Whether ``path``, every symlink followed, lies within ``root``."""
+    real_root = os.path.realpath(root)
+    real = os.path.realpath(path)
+    return real == real_root or real.startswith(real_root + os.sep)
+
+
 class Server(http.server.ThreadingHTTPServer):
     daemon_threads = True
+    request_queue_size = LISTEN_QUEUE
 
     def handle_error(self, request: socket.socket | tuple[bytes, socket.socket],
                      client_address: Any) -> None:
@@ -402,9 +451,11 @@ class Server(http.server.ThreadingHTTPServer):
             super().handle_error(request, client_address)   # a browser hanging up is no error
 
 
-def make_server(root: Path, port: int = 0, quiet: bool = False) -> Server:
+def make_server(root: Path, port: int = 0, quiet: bool = False,
+                timeout: float = SERVER_TIMEOUT_S) -> Server:
     """A server on 127.0.0.1 (port 0: the system picks one); run serve_forever() yourself."""
-    handler: type[Handler] = type("RootHandler", (Handler,), {"quiet": quiet})
+    handler: type[Handler] = type("RootHandler", (Handler,), {"quiet": quiet,
+                                                              "timeout": timeout})
 
     def factory(*args: Any, **kwargs: Any) -> Handler:
         return handler(*args, directory=str(root), **kwargs)

@@ -17,8 +17,8 @@ class CaseError(ValueError):
     def __init__(self, field: str, message: str, value: Any = None) -> None:
         self.field = field
         self.value = value
-        self.message = message
-        super().__init__(message)
+        self.message = _clip_echo(message, value)
+        super().__init__(self.message)
 
     def within(self, prefix: str) -> CaseError:
         """The same refusal, its field placed under ``prefix``."""
@@ -34,3 +34,28 @@ class CaseError(ValueError):
 
     def as_dict(self) -> dict[str, Any]:
         return {"field": self.field, "message": self.message}
+
+
+ECHO = 60
+"""At most this many characters of a bad value are echoed in a refusal."""
+
+
+def shown(value: Any, quote: bool = True, limit: int = ECHO) -> str:
+    """``value`` as echoed in a refusal: its repr (or the text itself), cut to ``limit``."""
+    text = repr(value) if quote or not isinstance(value, str) else value
+    if len(text) <= limit:
+        return text
+    return text[:limit - 3] + "..."
+
+
+def _clip_echo(message: str, value: Any) -> str:
+    """``message`` with a long echo of ``value`` (its repr or its text) cut to ``ECHO``."""
+    if isinstance(value, (str, int, float)) and not isinstance(value, bool):
+        try:
+            echoes = (repr(value), str(value))
+        except ValueError:   # an integer beyond Python's digit limit
+            return message
+        for echo in echoes:
+            if len(echo) > ECHO and echo in message:
+                return message.replace(echo, shown(echo, quote=False))
+    return message

@@ -16,12 +16,13 @@ from __future__ import annotations
 import csv
 import io
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass, replace
 from typing import Any
 
 from pycore.documents.fields import as_object, only_keys, path_of, require
-from pycore.errors import CaseError
+from pycore.documents.spreadsheet import NumberText, SafeWriter, unguarded
+from pycore.errors import CaseError, shown
 from pycore.validation import in_range
 
 POWER_RANGE_D = (0.25, 6.0)
@@ -84,10 +85,10 @@ def make_pair(values: dict[str, Any], where: str) -> StockPair:
         raise CaseError(field, f"{field} must be text of at most {MAX_LABEL} characters.", frame)
     count = values.get("count")
     field = path_of(where, "count")
-    if isinstance(count, bool) or not isinstance(count, (int, float)) or count != int(count) \
-            or not 0 <= count <= MAX_COUNT:
+    if isinstance(count, bool) or not isinstance(count, (int, float)) \
+            or not 0 <= count <= MAX_COUNT or count != int(count):
         raise CaseError(field, f"{field} must be a whole number from 0 to {MAX_COUNT}; "
-                               f"got {count!r}.", count)
+                               f"got {shown(count)}.", count)
     return StockPair(pair_id.strip(), power, oc, frame.strip(), int(count))
 
 
@@ -143,7 +144,7 @@ def parse_stock_csv(text: str) -> tuple[tuple[StockPair, ...], tuple[RowProblem,
     pairs: list[StockPair] = []
     problems: list[RowProblem] = []
     seen: dict[str, int] = {}
-    for row in reader:
+    for row in _rows(reader, problems):
         line = reader.line_num
         if not any(cell.strip() for cell in row):
             continue
@@ -176,6 +177,17 @@ def parse_stock_csv(text: str) -> tuple[tuple[StockPair, ...], tuple[RowProblem,
     return tuple(pairs), tuple(problems)
 
 
+def _rows(reader: Any, problems: list[RowProblem]) -> Iterator[list[str]]:
+    """The CSV rows; a row the CSV reader cannot read ends the file as a refused line."""
+    try:
+        yield from reader
+    except csv.Error as exc:
+        line = reader.line_num
+        problems.append(RowProblem(line, "", f"line {line} cannot be read as CSV "
+                                             f"({str(exc).rstrip('.')}); the rest were "
+                                             "skipped."))
+
+
 def stock_from_csv(text: str) -> tuple[StockPair, ...]:
     """Stock pairs from CSV text; any refused row refuses the whole file (CaseError)."""
     pairs, problems = parse_stock_csv(text)
@@ -189,10 +201,10 @@ def stock_from_csv(text: str) -> tuple[StockPair, ...]:
 def _header_problem(header: list[str], line: int) -> RowProblem | None:
     for index, name in enumerate(header):
         if name not in COLUMNS:
-            return RowProblem(line, name, f"line {line}, column {index + 1} {name!r} is not a "
+            return RowProblem(line, name, f"line {line}, column {index + 1} {shown(name)} is not a "
                                           f"stock column; allowed: {', '.join(COLUMNS)}.")
         if name in header[:index]:
-            return RowProblem(line, name, f"line {line}, column {name!r} appears twice.")
+            return RowProblem(line, name, f"line {line}, column {shown(name)} appears twice.")
     missing = [name for name in REQUIRED if name not in header]
     if missing:
         return RowProblem(line, missing[0], f"line {line}: the header has no {missing[0]} "
@@ -206,7 +218,8 @@ def _csv_pair(header: list[str], row: list[str], line: int, delimiter: str) -> S
         raise CaseError(where, f"line {line} has {len(row)} cells but the header names "
                                f"{len(header)} columns.")
     cells = {name: (row[i].strip() if i < len(row) else "") for i, name in enumerate(header)}
-    values: dict[str, Any] = {"id": cells["id"], "frame_size": cells.get("frame_size", "")}
+    values: dict[str, Any] = {"id": unguarded(cells["id"]),
+                              "frame_size": unguarded(cells.get("frame_size", ""))}
     for name in ("power", "oc_distance_mm", "count"):
         values[name] = _csv_number(cells[name], f"{where}.{name}", name, delimiter)
     try:
@@ -230,13 +243,14 @@ def _csv_number(cell: str, field: str, name: str, delimiter: str) -> float:
 
 
 def stock_to_csv(pairs: Iterable[StockPair]) -> str:
-    """The stock as CSV text (comma separated), readable again by ``parse_stock_csv``."""
+    """The stock as CSV text (comma separated), readable again by ``parse_stock_csv``;
+    labels a spreadsheet would take for formulas get a leading apostrophe."""
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeWriter(out)
     writer.writerow(COLUMNS)
     for pair in pairs:
-        writer.writerow([pair.id, _power_text(pair.power), f"{pair.oc_distance_mm:g}",
-                         pair.frame_size, pair.count])
+        writer.writerow([pair.id, NumberText(_power_text(pair.power)),
+                         NumberText(f"{pair.oc_distance_mm:g}"), pair.frame_size, pair.count])
     return out.getvalue()
 
 

@@ -21,6 +21,8 @@ from typing import Any, TextIO
 from pycore.checks.verification_section import evaluate_section
 from pycore.documents.cases import load_json, read_case
 from pycore.documents.csv_cases import check_header, row_document
+from pycore.documents.input_files import read_input
+from pycore.documents.spreadsheet import SafeWriter
 from pycore.errors import CaseError
 from pycore.evaluate import evaluate_point, resolve_points
 
@@ -58,15 +60,11 @@ def folder_items(folder: str) -> tuple[int, Iterator[Item]]:
 
     def items() -> Iterator[Item]:
         for name in names:
-            try:
-                with open(os.path.join(folder, name), "rb") as handle:
-                    data = handle.read()
+            try:   # a regular file, its size checked before it is read
+                data = read_input(os.path.join(folder, name), "the case")
                 yield Item(name, None, load_json(data))
             except CaseError as exc:
                 yield Item(name, None, error=exc)
-            except OSError as exc:
-                yield Item(name, None, error=CaseError("", f"{name} cannot be read "
-                                                           f"({exc.strerror})."))
 
     return len(names), items()
 
@@ -165,14 +163,15 @@ def run_batch(items: Iterable[Item], write: Callable[[dict[str, Any]], None],
 
 
 class ReportWriter:
-    """Writes entries as CSV rows, JSON lines or readable text to a stream."""
+    """Writes entries as CSV rows, JSON lines or readable text to a stream (CSV text cells
+    are made spreadsheet-safe, see pycore.documents.spreadsheet)."""
 
     def __init__(self, stream: TextIO, form: str) -> None:
         if form not in FORMATS:
             raise CaseError("format", f"format must be one of {', '.join(FORMATS)}.", form)
         self.stream = stream
         self.form = form
-        self._csv = csv.writer(stream, lineterminator="\n") if form == "csv" else None
+        self._csv = SafeWriter(stream) if form == "csv" else None
         if self._csv is not None:
             self._csv.writerow(CSV_COLUMNS)
 

@@ -7,7 +7,6 @@ lens with no cylinder).
 
 from __future__ import annotations
 
-import json
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from functools import partial
@@ -18,6 +17,7 @@ from pycore.documents.fields import as_object as _object
 from pycore.documents.fields import only_keys as _only_keys
 from pycore.documents.fields import read_prism as read_prism
 from pycore.documents.fields import within as _within
+from pycore.documents.json_input import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json
 from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye
 from pycore.optics.notation import parse_prescription
@@ -39,8 +39,6 @@ from pycore.validation import finite_number, in_range
 
 T = TypeVar("T")
 
-MAX_DOCUMENT_BYTES = 1_000_000
-MAX_DEPTH = 12
 MAX_POINTS = 200
 MAX_NAME = 80
 FITTING_POINTS = ("distance", "near")
@@ -72,75 +70,6 @@ class Case:
 
     def lens(self, eye: Eye) -> Lens:
         return self.right if eye == "right" else self.left
-
-
-# --------------------------------------------------------------------------- reading JSON
-
-
-def load_json(text: str | bytes) -> Any:
-    """Parse JSON text strictly: size, depth, NaN/Infinity and duplicate keys are refused."""
-    if isinstance(text, bytes):
-        if len(text) > MAX_DOCUMENT_BYTES:
-            raise _too_large(len(text))
-        try:
-            text = text.decode("utf-8")
-        except UnicodeDecodeError:
-            raise CaseError("", "The case file is not UTF-8 text.") from None
-    if len(text) > MAX_DOCUMENT_BYTES:
-        raise _too_large(len(text))
-    if not text.strip():
-        raise CaseError("", "The case is empty; expected a JSON object with right and left.")
-    try:
-        document = json.loads(text, parse_constant=_refuse_constant,
-                              object_pairs_hook=_no_duplicates)
-    except CaseError:
-        raise
-    except RecursionError:
-        raise _too_deep() from None
-    except json.JSONDecodeError as exc:
-        raise CaseError(
-            "", f"The case is not valid JSON (line {exc.lineno}, column {exc.colno}: "
-            f"{exc.msg.lower()})."
-        ) from None
-    if _depth(document) > MAX_DEPTH:
-        raise _too_deep()
-    return document
-
-
-def _too_large(size: int) -> CaseError:
-    return CaseError("", f"The case is too large ({size} bytes; at most "
-                         f"{MAX_DOCUMENT_BYTES} bytes).")
-
-
-def _too_deep() -> CaseError:
-    return CaseError("", f"The case is nested too deeply (at most {MAX_DEPTH} levels).")
-
-
-def _refuse_constant(name: str) -> Any:
-    raise CaseError("", f"The case contains {name}, which is not a number; use finite numbers.")
-
-
-def _no_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
-    result: dict[str, Any] = {}
-    for key, value in pairs:
-        if key in result:
-            raise CaseError(key, f"{key} appears twice in the same object; give it once.")
-        result[key] = value
-    return result
-
-
-def _depth(value: Any) -> int:
-    deepest, stack = 0, [(value, 1)]
-    while stack:
-        item, level = stack.pop()
-        deepest = max(deepest, level)
-        if level > MAX_DEPTH:
-            break
-        if isinstance(item, dict):
-            stack.extend((v, level + 1) for v in item.values())
-        elif isinstance(item, list):
-            stack.extend((v, level + 1) for v in item)
-    return deepest
 
 
 # --------------------------------------------------------------------------- sections
@@ -404,4 +333,5 @@ def _text(value: Any, path: str, limit: int) -> str:
     return value
 
 
-__all__ = ["PRISM_LIMIT", "Case", "Frame", "load_json", "read_case", "read_case_text"]
+__all__ = ["MAX_DOCUMENT_BYTES", "MAX_NESTING", "PRISM_LIMIT", "Case", "Frame", "load_json",
+           "read_case", "read_case_text", "read_prism"]

@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from typing import Any, TypeVar
 
-from pycore.errors import CaseError
+from pycore.errors import CaseError, shown
 from pycore.optics.eyes import Eye
 from pycore.optics.notation import parse_prescription, parse_prism
 from pycore.optics.power import Prescription
@@ -39,7 +39,7 @@ def only_keys(obj: Mapping[str, Any], path: str, allowed: tuple[str, ...]) -> No
     """Refuse any key not in ``allowed`` (a mistyped key must never be ignored)."""
     for key in obj:
         if key not in allowed:
-            where = path_of(path, key)
+            where = path_of(path, shown(key, quote=False))
             raise CaseError(where, f"{where} is not a field the tool knows; allowed "
                                    f"{'in ' + path if path else 'at the top'}: "
                                    f"{', '.join(allowed)}.", key)

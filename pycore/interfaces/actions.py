@@ -27,10 +27,11 @@ from pycore.checks.tolerances import tolerance_tables
 from pycore.checks.verification_input import read_verification
 from pycore.checks.verification_section import evaluate_section
 from pycore.checks.verification_text import verification_text
+from pycore.documents import kinds
 from pycore.documents.batch import FORMATS, run_csv_text
 from pycore.documents.cases import read_case
 from pycore.documents.fields import as_object, only_keys
-from pycore.errors import CaseError
+from pycore.errors import CaseError, shown
 from pycore.evaluate import evaluate
 from pycore.reading.remedies.side_by_side import finished_case, remedies_section
 from pycore.reading.zone import reading_zone_section
@@ -132,3 +133,15 @@ def apply_remedy(payload: Any) -> dict[str, Any]:
         raise CaseError("case", "case is missing from the request.")
     entry, finished = finished_case(payload["case"], payload.get("remedy"))
     return {"remedy": entry, "case": finished, "result": evaluate(read_case(finished))}
+
+
+def read_document(payload: Any) -> dict[str, Any]:
+    """``{text, expect?}`` -> ``{kind, document}``: a file read the way the CLI reads it."""
+    if not isinstance(payload, dict) or "text" not in payload:
+        raise CaseError("text", "text is missing from the request.")
+    unknown = set(payload) - {"text", "expect"}
+    if unknown:
+        first = shown(sorted(unknown)[0])
+        raise CaseError(first, f"{first} is not a field of read_document; give text and, if "
+                               "wanted, expect.")
+    return kinds.read_document(payload["text"], payload.get("expect"))

@@ -13,7 +13,7 @@ from collections.abc import Callable
 from typing import Any
 
 from pycore import __version__
-from pycore.documents.cases import MAX_DOCUMENT_BYTES, load_json, read_case
+from pycore.documents.cases import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json, read_case
 from pycore.documents.summary import text_summary
 from pycore.errors import CaseError
 from pycore.evaluate import evaluate
@@ -77,8 +77,24 @@ ACTIONS: dict[str, Action] = {
     "readers_undo": actions.undo,
     "deviation": actions.deviation,
     "batch": actions.batch,
+    "read_document": actions.read_document,
 }
 """Every action the page can ask for, by name (the only way the page reaches the core)."""
+
+
+def _read_request(request_json: str) -> Any:
+    """The request parsed by the one JSON reader; refusals name the payload's own fields."""
+    try:
+        return load_json(request_json, "the request", MAX_NESTING + 1)
+    except CaseError as exc:
+        if "levels deep" in exc.message:
+            raise CaseError("", f"The document is nested more than {MAX_NESTING} levels "
+                                "deep.") from None
+        if exc.field.startswith("payload."):
+            field = exc.field.removeprefix("payload.")
+            raise CaseError(field, exc.message.replace(exc.field, field, 1), exc.value) \
+                from None
+        raise
 
 
 def handle(request_json: str) -> str:
@@ -86,7 +102,7 @@ def handle(request_json: str) -> str:
     try:
         if len(request_json) > 2 * MAX_DOCUMENT_BYTES:
             raise CaseError("", "The request is too large.")
-        request = load_json(request_json)
+        request = _read_request(request_json)
         if not isinstance(request, dict) or not isinstance(request.get("action"), str):
             raise CaseError("action", "The request must name an action.")
         name = request["action"]

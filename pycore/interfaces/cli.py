@@ -20,6 +20,7 @@ from pycore.interfaces.commands import (
     readers,
     verify,
 )
+from pycore.interfaces.commands.common import silence_stdout
 
 DESCRIPTION = """\
 Prism Desk: the prism each spectacle lens puts before each eye (Prentice's rule)
@@ -72,4 +73,5 @@ def main(argv: Sequence[str] | None = None) -> int:
         sys.stderr.write("Stopped.\n")
         return 130
     except BrokenPipeError:
+        silence_stdout()
         return 0

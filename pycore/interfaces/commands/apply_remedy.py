@@ -6,12 +6,11 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from pycore.documents.cases import read_case_text
 from pycore.documents.summary import text_summary
 from pycore.evaluate import evaluate
-from pycore.interfaces.commands.common import read_input
+from pycore.interfaces.commands.common import read_input, write_output
 from pycore.reading.remedies.side_by_side import ORDER, finished_case
 
 HELP = "the finished case with one reading-zone remedy applied (slab-off, ...)"
@@ -49,8 +48,7 @@ def run(args: argparse.Namespace) -> int:
         text = text_summary(result) if args.text else json.dumps(result, indent=2) + "\n"
     else:
         text = json.dumps(finished, indent=2) + "\n"
-    sys.stdout.write(text)
-    sys.stdout.flush()
+    write_output(text)
     return 0
 
 

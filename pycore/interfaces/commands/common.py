@@ -1,31 +1,41 @@
-"""What the command-line commands share: reading FILE (or standard input) and writing."""
+"""What the command-line commands share: reading FILE (or standard input) and writing
+the whole answer to standard output (a failure to write is a refusal, exit 2)."""
 
 from __future__ import annotations
 
+import os
 import sys
-from typing import TextIO
 
-from pycore.documents.cases import MAX_DOCUMENT_BYTES
+from pycore.documents.input_files import read_input
 from pycore.errors import CaseError
 
+__all__ = ["read_input", "silence_stdout", "write_output"]
 
-def read_input(source: str) -> bytes:
-    """The bytes of FILE, or of standard input for '-'; refusals as CaseError."""
+
+def write_output(text: str) -> None:
+    """Write a command's whole answer to standard output; a failure is a CaseError."""
     try:
-        if source == "-":
-            data = sys.stdin.buffer.read(MAX_DOCUMENT_BYTES + 1)
-        else:
-            with open(source, "rb") as handle:
-                data = handle.read(MAX_DOCUMENT_BYTES + 1)
-    except FileNotFoundError:
-        raise CaseError("", f"There is no file {source!r}.") from None
-    except IsADirectoryError:
-        raise CaseError("", f"{source!r} is a folder, not a case file.") from None
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    except BrokenPipeError:
+        raise
+    except UnicodeEncodeError as exc:
+        silence_stdout()
+        raise CaseError("output", f"Standard output cannot take the character "
+                                  f"{exc.object[exc.start:exc.start + 1]!r} (its encoding is "
+                                  f"{exc.encoding}); set PYTHONIOENCODING=utf-8.") from None
     except OSError as exc:
-        raise CaseError("", f"{source!r} cannot be read ({exc.strerror}).") from None
-    return data
+        silence_stdout()
+        raise CaseError("output", f"Standard output cannot be written "
+                                  f"({exc.strerror or exc}).") from None
 
 
-def write(stream: TextIO, text: str) -> None:
-    stream.write(text)
-    stream.flush()
+def silence_stdout() -> None:
+    """Point standard output at the null device, so nothing fails again at exit."""
+    try:
+        fd = sys.stdout.fileno()
+    except (OSError, ValueError, AttributeError):
+        return
+    null = os.open(os.devnull, os.O_WRONLY)
+    os.dup2(null, fd)
+    os.close(null)

@@ -4,12 +4,11 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from pycore.checks.deviation import read_deviation, through_spectacles
 from pycore.checks.readers_text import deviation_text
 from pycore.documents.cases import load_json
-from pycore.interfaces.commands.common import read_input
+from pycore.interfaces.commands.common import read_input, write_output
 
 HELP = "a deviation measured with prisms through spectacles, worked back to the eye"
 
@@ -43,9 +42,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    result = through_spectacles(read_deviation(load_json(read_input(args.file))))
-    sys.stdout.write(deviation_text(result) if args.text else json.dumps(result, indent=2)
-                     + "\n")
-    sys.stdout.flush()
+    what = "the deviation file"
+    result = through_spectacles(read_deviation(load_json(read_input(args.file, what), what)))
+    write_output(deviation_text(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
 

@@ -4,12 +4,11 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from pycore.documents.cases import read_case_text
 from pycore.documents.summary import text_summary
 from pycore.evaluate import evaluate
-from pycore.interfaces.commands.common import read_input, write
+from pycore.interfaces.commands.common import read_input, write_output
 
 HELP = "prism and imbalance for a case file"
 
@@ -34,5 +33,5 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     case = read_case_text(read_input(args.file))
     result = evaluate(case)
-    write(sys.stdout, text_summary(result) if args.text else json.dumps(result, indent=2) + "\n")
+    write_output(text_summary(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0

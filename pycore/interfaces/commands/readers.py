@@ -4,15 +4,14 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from pycore.checks.reader_limits import limit_sets
 from pycore.checks.reader_stock import StockPair, read_stock, stock_from_csv
 from pycore.checks.readers import readers_request
 from pycore.checks.readers_text import readers_text
 from pycore.documents.cases import load_json
-from pycore.errors import CaseError
-from pycore.interfaces.commands.common import read_input
+from pycore.errors import CaseError, shown
+from pycore.interfaces.commands.common import read_input, write_output
 
 HELP = "rank ready-made readers from a clinic's stock for one wearer"
 
@@ -58,12 +57,12 @@ def run(args: argparse.Namespace) -> int:
                            f"{s['source']}\n" for s in sets)
         else:
             text = json.dumps({"limit_sets": sets}, indent=2) + "\n"
-        _write(text)
+        write_output(text)
         return 0
     if args.file is None:
         raise CaseError("FILE", "FILE is missing: give the wearer file, or - for standard "
                                 "input.")
-    document = load_json(read_input(args.file))
+    document = load_json(read_input(args.file, "the readers file"), "the readers file")
     stock = None
     if args.stock is not None:
         stock = _stock(args.stock)
@@ -73,22 +72,19 @@ def run(args: argparse.Namespace) -> int:
     if args.limits is not None and isinstance(document, dict):
         document["limits"] = args.limits
     result = readers_request(document, stock)
-    _write(readers_text(result) if args.text else json.dumps(result, indent=2) + "\n")
+    write_output(readers_text(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
 
 
 def _stock(source: str) -> tuple[StockPair, ...]:
-    data = read_input(source)
+    data = read_input(source, "the stock file")
     if source.lower().endswith(".json"):
-        return read_stock(load_json(data))
+        return read_stock(load_json(data, "the stock file"))
     try:
         text = data.decode("utf-8")
-    except UnicodeDecodeError:
-        raise CaseError("stock", f"The stock file {source!r} is not UTF-8 text.") from None
+    except UnicodeDecodeError as exc:
+        line = data[:exc.start].count(b"\n") + 1
+        raise CaseError("stock", f"The stock file {shown(source)} is not UTF-8 text (a bad "
+                                 f"byte on line {line}).") from None
     return stock_from_csv(text)
-
-
-def _write(text: str) -> None:
-    sys.stdout.write(text)
-    sys.stdout.flush()
 

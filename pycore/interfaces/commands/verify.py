@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import sys
 
 from pycore.checks.tolerances import tolerance_tables
 from pycore.checks.verification import verify
@@ -13,7 +12,7 @@ from pycore.checks.verification_section import evaluate_section
 from pycore.checks.verification_text import verification_text
 from pycore.documents.cases import load_json, read_case
 from pycore.errors import CaseError
-from pycore.interfaces.commands.common import read_input
+from pycore.interfaces.commands.common import read_input, write_output
 
 HELP = "judge a finished pair's prism against a standard (ANSI Z80.1, ISO 21987, ...)"
 
@@ -58,19 +57,20 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     if args.list_standards:
-        _write(_standards(args.text))
+        write_output(_standards(args.text))
         return 0
     if args.file is None:
         raise CaseError("FILE", "FILE is missing: give a verification file, or - for standard "
                                 "input.")
-    document = load_json(read_input(args.file))
+    document = load_json(read_input(args.file, "the verification file"),
+                         "the verification file")
     if isinstance(document, dict) and "ordered" not in document and "right" in document:
         result = _from_case(document, args)
     else:
         if isinstance(document, dict):
             _override(document, args)
         result = verify(read_verification(document))
-    _write(verification_text(result) if args.text else json.dumps(result, indent=2) + "\n")
+    write_output(verification_text(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
 
 
@@ -104,9 +104,4 @@ def _standards(as_text: bool) -> str:
         lines.append(f"{table['id']}: {table['title']}{flag}")
         lines.append(f"    source ({table['certainty']}): {table['source']}")
     return "\n".join(lines) + "\n"
-
-
-def _write(text: str) -> None:
-    sys.stdout.write(text)
-    sys.stdout.flush()
 
