@@ -107,7 +107,8 @@ def _two(value: float) -> str:
 # --------------------------------------------------------------------------- tokens
 
 
-def _normalise(text: object, field: str, what: str, example: str) -> str:
+def _normalise(text: object, field: str, example: str) -> str:
+    """The text with its parts spaced apart for reading (case kept, so quotes match)."""
     if not isinstance(text, str):
         raise CaseError(field, f"{field} must be text, e.g. {example}.", text)
     if len(text) > MAX_TEXT:
@@ -396,7 +397,7 @@ def parse_written(text: object, field: str = "rx", eye: Eye | None = None) -> Wr
     ``eye`` is needed only for prism in 360-degree notation (``2.5 @ 37``).
     """
     hint = f"write it as sphere / cylinder x axis, then any add and prism, e.g. {RX_EXAMPLE}"
-    line = _Line(_tokens(_normalise(text, field, "a prescription", RX_EXAMPLE)), field, hint)
+    line = _Line(_tokens(_normalise(text, field, RX_EXAMPLE)), field, hint)
     sphere = _read_sphere(line)
     line.skip_separators()
     cylinder, axis = _read_cylinder(line)
@@ -431,7 +432,7 @@ def parse_sphere(value: object, field: str = "sphere") -> float:
     if not isinstance(value, str):
         return in_range(value, field, -30.0, 30.0, "dioptres")
     hint = "write the sphere alone, e.g. +2.00, -1.25 DS or plano"
-    line = _Line(_tokens(_normalise(value, field, "a sphere", "+2.00 DS")), field, hint)
+    line = _Line(_tokens(_normalise(value, field, "+2.00 DS")), field, hint)
     if line.done:
         raise CaseError(field, f"{field} is empty; {hint}.", value)
     sphere = _read_sphere(line)
@@ -445,7 +446,7 @@ def parse_sphere(value: object, field: str = "sphere") -> float:
 def parse_prism(text: object, eye: Eye, field: str = "prism") -> Prism:
     """A written prism for ``eye`` (``1.5 BU 2 BI``, ``2.5 @ 37``); empty text is no prism."""
     hint = f"write each prism as an amount and a base, e.g. {PRISM_EXAMPLE}"
-    cleaned = _normalise(text, field, "a prism", "1.5 BU")
+    cleaned = _normalise(text, field, "1.5 BU")
     if cleaned.lower() in _NO_PRISM:
         return Prism()
     line = _Line(_tokens(cleaned), field, hint)
