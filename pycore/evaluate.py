@@ -35,6 +35,7 @@ from pycore.spectacles.decentration import (
 )
 from pycore.spectacles.fitting import Fitting
 from pycore.spectacles.gaze import GazePoint
+from pycore.spectacles.heights import describe_heights, reference_point_height_mm
 from pycore.spectacles.lens import Lens
 
 SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "remedies", "verification")
@@ -141,7 +142,8 @@ def describe_fitting(case: Case) -> dict[str, Any] | None:
     try:
         near = find_fitting_point(case, "near") or _near_point(case, fitting)
     except CaseError:
-        return {"distance_pd_mm": fitting.distance_pd_mm, "near_inset_mm": None}
+        return {"distance_pd_mm": fitting.distance_pd_mm, "near_inset_mm": None,
+                "heights": describe_heights(case)}
     # The insets are read off the near point itself, so they agree with `points`.
     insets = (near.right.in_mm, near.left.in_mm)
     return {
@@ -152,6 +154,7 @@ def describe_fitting(case: Case) -> dict[str, Any] | None:
         "working_distance_mm": fitting.working_distance_mm,
         "centre_of_rotation_mm": fitting.centre_of_rotation_mm,
         "reading_depth_mm": fitting.reading_depth_mm,
+        "heights": describe_heights(case),
     }
 
 
@@ -164,10 +167,13 @@ def describe_frame(case: Case, frame: Frame | None) -> dict[str, Any] | None:
     for eye in EYES:
         fit = case.fitting.right if eye == "right" else case.fitting.left
         inward = decentration_per_eye_mm(frame.a_mm, frame.dbl_mm, fit.mono_pd_mm)
-        up = 0.0
-        if frame.b_mm is not None and fit.height_mm is not None:
-            up = fit.height_mm - frame.b_mm / 2.0
         lens = case.lens(eye)
+        up = 0.0
+        # The optical centre sits at the distance reference point: the PRP of a
+        # progressive, below the fitting cross (pycore.spectacles.heights).
+        centre_height = reference_point_height_mm(lens, fit.height_mm)
+        if frame.b_mm is not None and centre_height is not None:
+            up = centre_height - frame.b_mm / 2.0
         prism_in, prism_up = 0.0, 0.0
         if lens.prism.amount > 0:
             try:

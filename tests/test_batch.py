@@ -39,7 +39,7 @@ HEADER = ["name", "right.rx", "left.rx", "right.prism", "fitting.right.mono_pd_m
 # (bad cell values, the column they go in): each must be refused naming that column
 BAD_CELLS = [
     ("+2.00 / -1.00 x 200", "right.rx"),
-    ("2.00 DS", "left.rx"),
+    ("+2.00 y 90", "left.rx"),
     ("3 BX", "right.prism"),
     ("sixty", "fitting.right.mono_pd_mm"),
     ("70", "fitting.left.mono_pd_mm"),

@@ -109,3 +109,16 @@ def test_plano_lens_cannot_give_prism() -> None:
 def test_decentration_off_the_lens_is_refused() -> None:
     with pytest.raises(CaseError, match="off any lens"):
         decentration_for_prism(Prescription(0.5), Prism(5, 0), "right")
+
+
+def test_power_does_not_read_notation() -> None:
+    """Reading (notation) builds on power; power, which writes, never imports the reader."""
+    import ast
+    from pathlib import Path
+
+    import pycore.optics.power
+
+    tree = ast.parse(Path(pycore.optics.power.__file__).read_text())
+    imported = {node.module for node in ast.walk(tree)
+                if isinstance(node, ast.ImportFrom) and node.module}
+    assert not any(name.endswith("notation") for name in imported)

@@ -44,6 +44,7 @@ from pycore.optics.eyes import EYES, Eye
 from pycore.optics.power import Prescription
 from pycore.optics.prism import Prism
 from pycore.spectacles.gaze import LensPoint
+from pycore.spectacles.heights import reference_point_height_mm
 from pycore.validation import in_range
 
 if TYPE_CHECKING:
@@ -211,9 +212,11 @@ def from_case(case: Case, section: Section, path: str = "verification") -> Verif
         fit = None
         if case.fitting is not None:
             fit = case.fitting.right if eye == "right" else case.fitting.left
+        # The standard's height is the PRP's: below the fitting cross on a progressive.
         ordered[eye] = OrderedLens(lens.prescription, lens.prism,
                                    fit.mono_pd_mm if fit else None,
-                                   fit.height_mm if fit else None,
+                                   reference_point_height_mm(lens, fit.height_mm if fit
+                                                             else None),
                                    thinning[eye])
     pd = case.fitting.distance_pd_mm if case.fitting is not None else None
     _pair_consistency(settings, ordered, "fitting")

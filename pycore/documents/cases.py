@@ -20,7 +20,11 @@ from pycore.documents.fields import within as _within
 from pycore.documents.json_input import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json
 from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye
-from pycore.optics.notation import parse_prescription
+from pycore.optics.notation import (
+    WrittenPrescription,
+    parse_sphere,
+    parse_written,
+)
 from pycore.optics.power import Prescription
 from pycore.optics.prism import PRISM_LIMIT, Prism
 from pycore.reading.options import read_reading_zone
@@ -88,13 +92,17 @@ def read_case(document: Any) -> Case:
     """A validated Case from a parsed JSON document."""
     obj = _object(document, "", "the case")
     _only_keys(obj, "", (*_TOP_KEYS, *SECTIONS))
+    obj = fold_reading_depth(obj)
+    fitting = read_fitting(obj["fitting"], "fitting") if "fitting" in obj else None
     lenses = {}
     for eye in EYES:
         if eye not in obj:
             raise CaseError(eye, f"{eye} is missing: a case needs both eyes' lenses "
                                  "(use sphere 0 for a plano lens).")
-        lenses[eye] = read_lens(obj[eye], eye)
-    fitting = read_fitting(obj["fitting"], "fitting") if "fitting" in obj else None
+        height = None
+        if fitting is not None:
+            height = (fitting.right if eye == "right" else fitting.left).height_mm
+        lenses[eye] = read_lens(obj[eye], eye, height)
     frame = read_frame(obj["frame"], "frame") if "frame" in obj else None
     if "points" in obj:
         points = read_points(obj["points"], "points", fitting)
@@ -119,18 +127,26 @@ _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "sl
               "progressive")
 
 
-def read_lens(value: Any, path: str) -> Lens:
+def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> Lens:
+    """One eye's lens; ``fitting_height_mm`` (that eye's fitting height above the lowest
+    point of the lens shape) places a segment given by its ``height_mm``."""
     obj = _object(value, path, "an eye's lens")
     _only_keys(obj, path, _LENS_KEYS)
     eye: Eye = "right" if path.endswith("right") else "left"
-    rx = _prescription(obj, path)
+    written = _prescription(obj, path, eye)
+    rx = written.prescription
     prism = read_prism(obj["prism"], f"{path}.prism", eye) if "prism" in obj else Prism()
+    if written.prism is not None:
+        prism = _agreeing_prism(written.prism, prism, "prism" in obj, path)
     add = 0.0
     if "add" in obj:
         add = finite_number(obj["add"], f"{path}.add", "dioptres")
         if add != 0:
             add = _within(lambda: in_range(add, "add", 0.25, 6.0, "dioptres"), path)
-    segment = _read_segment(obj["segment"], f"{path}.segment") if "segment" in obj else None
+    if written.add is not None:
+        add = _agreeing_add(written.add, add, "add" in obj, path)
+    segment = (_read_segment(obj["segment"], f"{path}.segment", fitting_height_mm)
+               if "segment" in obj else None)
     if segment is not None and add == 0:
         raise CaseError(f"{path}.add", f"{path}.add is needed with a segment: give the "
                                        "reading addition in dioptres (0.25 to 6).")
@@ -143,37 +159,91 @@ def read_lens(value: Any, path: str) -> Lens:
     return _within(lambda: Lens(rx, prism, add, segment, slab, progressive), path)
 
 
-def _prescription(obj: Mapping[str, Any], path: str) -> Prescription:
+def _prescription(obj: Mapping[str, Any], path: str, eye: Eye) -> WrittenPrescription:
+    """The lens's prescription: the ``rx`` line (which may carry an add and prism) or
+    ``sphere`` (a number, or text such as "+2.00 DS" or "plano"), ``cylinder``, ``axis``."""
     if "rx" in obj:
         clash = [k for k in ("sphere", "cylinder", "axis") if k in obj]
         if clash:
             raise CaseError(f"{path}.rx", f"{path}.rx and {path}.{clash[0]} both given; "
                                           "write the prescription one way only.")
-        return parse_prescription(obj["rx"], f"{path}.rx")
+        return parse_written(obj["rx"], f"{path}.rx", eye)
     if "sphere" not in obj:
         raise CaseError(f"{path}.sphere", f"{path}.sphere is missing: give the sphere in "
                                           "dioptres (0 for plano).")
-    sphere = finite_number(obj["sphere"], f"{path}.sphere", "dioptres")
+    if isinstance(obj["sphere"], str):
+        sphere = parse_sphere(obj["sphere"], f"{path}.sphere")
+    else:
+        sphere = finite_number(obj["sphere"], f"{path}.sphere", "dioptres")
     cylinder = finite_number(obj.get("cylinder", 0), f"{path}.cylinder", "dioptres")
     axis = finite_number(obj.get("axis", 0), f"{path}.axis", "degrees")
-    return _within(lambda: Prescription(sphere, cylinder, axis), path)
+    return WrittenPrescription(_within(lambda: Prescription(sphere, cylinder, axis), path))
+
+
+_SAME = 0.005
+"""Two figures closer than this (dioptres, prism dioptres) are the same as written."""
+
+
+def _agreeing_add(written: float, given: float, has_given: bool, path: str) -> float:
+    """The add written on the rx line, refused when the ``add`` field says otherwise."""
+    if has_given and abs(written - given) >= _SAME:
+        raise CaseError(f"{path}.add", f"{path}.add ({given:.2f}) and the add written in "
+                                       f"{path}.rx ({written:.2f}) disagree; give the add "
+                                       "once.", given)
+    return written
+
+
+def _agreeing_prism(written: Prism, given: Prism, has_given: bool, path: str) -> Prism:
+    """The prism written on the rx line, refused when the ``prism`` field says otherwise."""
+    if has_given and (abs(written.base_in - given.base_in) >= _SAME
+                      or abs(written.base_up - given.base_up) >= _SAME):
+        raise CaseError(f"{path}.prism", f"{path}.prism ({given.in_words()}) and the prism "
+                                         f"written in {path}.rx ({written.in_words()}) "
+                                         "disagree; give the prism once.")
+    return written
 
 
 _SEGMENT_PLACE_KEYS = ("top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm")
+SEGMENT_HEIGHT_RANGE_MM = (0.0, 45.0)
 
 
-def _read_segment(value: Any, path: str) -> Segment:
+def _read_segment(value: Any, path: str, fitting_height_mm: float | None = None) -> Segment:
     obj = _object(value, path, "a segment")
-    _only_keys(obj, path, (*_SEGMENT_PLACE_KEYS, *_SEGMENT_DESIGN_KEYS))
-    if "top_mm" not in obj:
-        raise CaseError(f"{path}.top_mm", f"{path}.top_mm is missing: give the segment top's "
-                                          "height from the distance reference point (mm).")
+    _only_keys(obj, path, (*_SEGMENT_PLACE_KEYS, "height_mm", *_SEGMENT_DESIGN_KEYS))
     numbers = {k: finite_number(obj[k], f"{path}.{k}", "mm")
                for k in _SEGMENT_PLACE_KEYS if k in obj}
+    if "height_mm" in obj:
+        numbers["top_mm"] = segment_top_from_height(obj, path, fitting_height_mm)
+    elif "top_mm" not in obj:
+        raise CaseError(f"{path}.top_mm", f"{path}.top_mm is missing: give the segment "
+                                          "height above the lowest point of the lens shape "
+                                          "(height_mm), or the segment top's height from the "
+                                          "distance reference point (top_mm).")
     outline = _read_segment_outline(obj, path)
     if outline is not None and "optical_centre_below_top_mm" not in numbers:
         numbers["optical_centre_below_top_mm"] = outline.usual_optical_centre_below_top_mm
     return _within(lambda: Segment(**numbers, outline=outline), path)
+
+
+def segment_top_from_height(obj: Mapping[str, Any], path: str,
+                            fitting_height_mm: float | None) -> float:
+    """``top_mm`` from a segment height as an order form gives it: the segment top above
+    the lowest point of the lens shape minus the fitting height (mm, negative: below
+    the distance reference point)."""
+    if "top_mm" in obj:
+        raise CaseError(f"{path}.height_mm", f"{path}.height_mm (segment height above the "
+                                             "lowest point of the lens shape) and "
+                                             f"{path}.top_mm (segment top from the distance "
+                                             "reference point) both given; give one.")
+    height = in_range(obj["height_mm"], f"{path}.height_mm", *SEGMENT_HEIGHT_RANGE_MM, "mm")
+    if fitting_height_mm is None:
+        eye = path.split(".")[0]
+        raise CaseError(f"{path}.height_mm", f"{path}.height_mm (segment height above the "
+                                             "lowest point of the lens shape) needs that "
+                                             f"eye's fitting height (fitting.{eye}.height_mm); "
+                                             "give it, or give the segment top from the "
+                                             "distance reference point (top_mm).", height)
+    return height - fitting_height_mm
 
 
 # --------------------------------------------------------------------------- lens designs
@@ -259,6 +329,34 @@ def read_fitting(value: Any, path: str) -> Fitting:
                              ("reading_depth_mm", DEFAULT_READING_DEPTH_MM))
     }
     return _within(lambda: Fitting(eyes["right"], eyes["left"], **numbers), path)
+
+
+READING_DEPTH_ALIAS = ("reading_zone", "reading_depth_mm")
+"""The older place of the reading depth; ``fitting.reading_depth_mm`` is the one
+documented input (docs/case-format.md, "Fitting")."""
+
+
+def fold_reading_depth(obj: dict[str, Any]) -> dict[str, Any]:
+    """The document with an older ``reading_zone.reading_depth_mm`` moved into the
+    fitting (when there is one), refused when the fitting gives a different depth.
+
+    Without a fitting the reading-zone settings keep it (the fitting is assumed)."""
+    section_key, key = READING_DEPTH_ALIAS
+    section, fitting = obj.get(section_key), obj.get("fitting")
+    if not isinstance(section, dict) or key not in section or not isinstance(fitting, dict):
+        return obj
+    alias = in_range(section[key], f"{section_key}.{key}", 0, 35, "mm")
+    if key in fitting:
+        given = finite_number(fitting[key], f"fitting.{key}", "mm")
+        if abs(given - alias) >= 1e-9:
+            raise CaseError(f"{section_key}.{key}",
+                            f"The reading depth is given twice and the two differ: "
+                            f"fitting.{key} {given:g} mm, {section_key}.{key} {alias:g} mm; "
+                            f"give it once, as fitting.{key}.", alias)
+    folded = dict(obj)
+    folded["fitting"] = {**fitting, key: alias}
+    folded[section_key] = {k: v for k, v in section.items() if k != key}
+    return folded
 
 
 def read_frame(value: Any, path: str) -> Frame:

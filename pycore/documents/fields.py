@@ -12,7 +12,7 @@ from typing import Any, TypeVar
 
 from pycore.errors import CaseError, shown
 from pycore.optics.eyes import Eye
-from pycore.optics.notation import parse_prescription, parse_prism
+from pycore.optics.notation import parse_prescription, parse_prism, parse_sphere
 from pycore.optics.power import Prescription
 from pycore.optics.prism import Prism
 from pycore.validation import finite_number, in_range
@@ -107,9 +107,10 @@ def prescription(obj: Mapping[str, Any], path: str) -> Prescription:
             raise CaseError(where, f"{where} and {path_of(path, clash[0])} both given; "
                                    "write the prescription one way only.")
         return parse_prescription(obj["rx"], path_of(path, "rx"))
-    sphere = finite_number(require(obj, path, "sphere", "give the sphere in dioptres "
-                                                        "(0 for plano), or rx as text."),
-                           path_of(path, "sphere"), "dioptres")
+    given = require(obj, path, "sphere", "give the sphere in dioptres (0 for plano), "
+                                         "or rx as text.")
+    sphere = (parse_sphere(given, path_of(path, "sphere")) if isinstance(given, str)
+              else finite_number(given, path_of(path, "sphere"), "dioptres"))
     cylinder = finite_number(obj.get("cylinder", 0), path_of(path, "cylinder"), "dioptres")
     axis = finite_number(obj.get("axis", 0), path_of(path, "axis"), "degrees")
     return within(lambda: Prescription(sphere, cylinder, axis), path)

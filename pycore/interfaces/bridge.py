@@ -19,7 +19,13 @@ from pycore.errors import CaseError
 from pycore.evaluate import evaluate
 from pycore.interfaces import actions
 from pycore.optics.eyes import EYES, Eye
-from pycore.optics.notation import parse_prescription, parse_prism
+from pycore.optics.notation import (
+    parse_prism,
+    parse_sphere,
+    parse_written,
+    written_prism,
+)
+from pycore.optics.power import written_axis, written_dioptres, written_sphere
 
 
 def _version(_payload: Any) -> dict[str, Any]:
@@ -35,11 +41,44 @@ def _summary(payload: Any) -> dict[str, Any]:
 
 
 def _describe_prescription(payload: Any) -> dict[str, Any]:
+    """A prescription line (``text``; optional ``eye``, needed for prism in 360-degree
+    notation) read and written back the trade's way."""
     text = _field(payload, "text")
-    rx = parse_prescription(text, "text")
+    eye = _optional_eye(payload)
+    line = parse_written(text, "text", eye)
+    rx = line.prescription
+    prism: dict[str, Any] | None = None
+    if line.prism is not None:
+        prism = dict(line.prism.as_dict(eye or "right"))
+        if eye is None:  # the 360-degree direction depends on the eye
+            prism.update(direction_360=None, in_360_words=None)
+        prism["written"] = written_prism(line.prism)
     return {"sphere": rx.sphere, "cylinder": rx.cylinder, "axis": rx.axis,
-            "written": rx.written(), "transposed_written": rx.transposed().written(),
+            "add": line.add, "prism": prism,
+            "written": rx.written(), "written_line": line.written(),
+            "written_parts": {
+                "sphere": written_sphere(rx.sphere),
+                "cylinder": written_dioptres(rx.cylinder) if rx.cylinder else None,
+                "axis": written_axis(rx.axis) if rx.cylinder else None,
+                "add": written_dioptres(line.add) if line.add is not None else None,
+                "prism": prism["written"] if prism is not None else None},
+            "transposed_written": rx.transposed().written(),
             "horizontal_power": rx.horizontal_power, "vertical_power": rx.vertical_power}
+
+
+def _describe_sphere(payload: Any) -> dict[str, Any]:
+    """The separate sphere field (``text``: ``+2.00``, ``2.00 DS``, ``pl``, ``plano``)."""
+    sphere = parse_sphere(_field(payload, "text"), "text")
+    return {"sphere": sphere, "written": written_sphere(sphere)}
+
+
+def _optional_eye(payload: Any) -> Eye | None:
+    eye = payload.get("eye") if isinstance(payload, dict) else None
+    if eye is None:
+        return None
+    if eye not in EYES:
+        raise CaseError("eye", "eye must be right or left.", eye)
+    return "right" if eye == "right" else "left"
 
 
 def _describe_prism(payload: Any) -> dict[str, Any]:
@@ -65,6 +104,7 @@ ACTIONS: dict[str, Action] = {
     "summary_text": _summary,
     "describe_prescription": _describe_prescription,
     "describe_prism": _describe_prism,
+    "describe_sphere": _describe_sphere,
     "reading_zone": actions.reading_zone,
     "apply_remedy": actions.apply_remedy,
     "verify": actions.verify,

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from decimal import ROUND_HALF_UP, Decimal
 
 from pycore.validation import in_range
 
@@ -105,9 +106,39 @@ class Prescription:
         return self.sphere + self.cylinder / 2
 
     def written(self) -> str:
-        """The prescription written out: ``+1.25 / -0.75 x 90``, ``-1.25 DS``, ``plano``."""
-        sphere = "plano" if self.sphere == 0 else f"{self.sphere:+.2f}"
-        if self.cylinder == 0:
-            return sphere if self.sphere == 0 else f"{sphere} DS"
-        axis = self.axis if self.axis != 0 else 180.0
-        return f"{sphere} / {self.cylinder:+.2f} x {axis:g}"
+        """The prescription the trade's way: ``+1.25 / -0.75 x 90``, ``-1.25 DS``,
+        ``plano / -0.50 x 90``, ``plano`` (sign always, two decimals, axis a whole
+        number of degrees with 180 for 0)."""
+        sphere = written_sphere(self.sphere)
+        if _is_zero(self.cylinder):
+            return sphere if sphere == PLANO else f"{sphere} DS"
+        return f"{sphere} / {written_dioptres(self.cylinder)} x {written_axis(self.axis)}"
+
+
+PLANO = "plano"
+"""How a zero sphere is written (common practice; the reader also takes pl, 0, 0.00)."""
+
+
+def _is_zero(value: float) -> bool:
+    return abs(value) < 0.005
+
+
+def written_dioptres(value: float) -> str:
+    """A power the trade's way: sign always, two decimals, half up (``+1.00``,
+    ``-0.13``); zero is ``+0.00``, never ``-0.00``."""
+    rounded = Decimal(repr(float(value))).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP)
+    if rounded == 0:
+        return "+0.00"
+    return f"{rounded:+.2f}"
+
+
+def written_sphere(value: float) -> str:
+    """A sphere: ``plano`` when it rounds to zero, else as ``written_dioptres``."""
+    text = written_dioptres(value)
+    return PLANO if text == "+0.00" else text
+
+
+def written_axis(axis: float) -> str:
+    """An axis as a whole number of degrees, half up, 180 for 0 (common practice)."""
+    whole = int(Decimal(repr(float(axis))).quantize(Decimal("1"), rounding=ROUND_HALF_UP))
+    return str(180 if whole == 0 else whole)

@@ -44,6 +44,10 @@ def describe_design(lens: Lens, eye: Eye, geometry: ReadingGeometry) -> dict[str
             "add": lens.add,
             "fitting_cross": {"in_mm": 0.0, "up_mm": design.fitting_cross_up_mm},
             "prism_reference_point": {"in_mm": 0.0, "up_mm": 0.0},
+            "prism_reference_point_below_fitting_cross_mm":
+                design.prism_reference_below_cross_mm,
+            "fitting_height_is": "the fitting cross; the prism reference point lies "
+                                 "below it by the design's stated distance",
             "near_reference_point": {"in_mm": design.near_inset_mm,
                                      "up_mm": design.near_point_up_mm},
             "corridor_mm": design.corridor_mm,

@@ -37,7 +37,9 @@ def near_inset_mm(mono_pd_mm: float, working_distance_mm: float,
 
 @dataclass(frozen=True)
 class EyeFitting:
-    """One eye's fitting: monocular PD (mm) and, optionally, fitting height (mm)."""
+    """One eye's fitting: monocular PD (mm) and, optionally, the fitting height: mm above
+    the lowest point of the lens shape of the point before the pupil (the distance
+    reference point; a progressive's fitting cross), as an order form gives it."""
 
     mono_pd_mm: float
     height_mm: float | None = None

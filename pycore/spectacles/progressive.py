@@ -9,6 +9,8 @@ so Prentice's rule for the distance power keeps the case format's meaning. The
 *fitting cross*, the point before the pupil in the primary position, lies
 ``prism_reference_below_cross_mm`` above the PRP; the *near reference point*
 ``near_depth_mm`` below the fitting cross and ``near_inset_mm`` toward the nose.
+An order gives the fitting-cross height (the case's fitting height); the PRP lies
+the design's stated ``prism_reference_below_cross_mm`` below it (pycore.spectacles.heights).
 
 The model of the addition is this project's own (designs differ and are not
 published in this form). Along the corridor the add power grows with a cubic

@@ -86,8 +86,13 @@ def near_prescription(case: Case, eye: Eye) -> Prescription:
 
 
 def set_section(document: dict[str, Any], **settings: Any) -> None:
-    """Change reading-zone settings of the document (keeping the others)."""
+    """Change reading-zone settings of the document (keeping the others). A reading depth
+    goes into the fitting, its documented place, where the document has one."""
     section = dict(document.get(SECTION) or {})
+    fitting = document.get("fitting")
+    if "reading_depth_mm" in settings and isinstance(fitting, dict):
+        document["fitting"] = {**fitting, "reading_depth_mm": settings.pop("reading_depth_mm")}
+        section.pop("reading_depth_mm", None)
     section.update(settings)
     document[SECTION] = section
 
