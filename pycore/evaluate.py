@@ -22,6 +22,7 @@ from .eyes import EYES, Eye
 from .fitting import Fitting
 from .gaze import GazePoint
 from .lens import Lens
+from .rounding import without_negative_zero
 
 CAUTIONS = (
     "A check aid only: verify every figure by measurement on the finished spectacles.",
@@ -106,7 +107,14 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
             "from_thinning": part.from_thinning.as_dict(eye),
         }
         result[eye] = entry
+    # The induced part: the total net minus the net of the prescribed prism, which is
+    # the wearer's correction and not an imbalance (docs/case-format.md, "Output").
+    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
     result["net"] = net.as_dict()
+    result["net"]["induced_vertical_base_up_right"] = (net.vertical_base_up_right
+                                                       - prescribed.vertical_base_up_right)
+    result["net"]["induced_horizontal_base_in"] = (net.horizontal_base_in
+                                                   - prescribed.horizontal_base_in)
     return result
 
 
@@ -209,4 +217,5 @@ def evaluate(case: Case, further_sections: bool = True) -> dict[str, Any]:
         section = evaluator(case, result)
         if section is not None:
             result[key] = section
+    without_negative_zero(result)
     return result

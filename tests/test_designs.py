@@ -80,7 +80,9 @@ def test_image_jump_at_the_segment_top(add: float, shape: dict[str, Any], jump: 
     assert found["right"]["base_up"] == pytest.approx(-jump)  # base down entering the segment
     assert result["eyes"]["right"]["image_jump"] == pytest.approx(jump)
     assert found["vertical_step_at_tops"] == pytest.approx(0.0)  # same segments: no step
-    assert "Durham" in found["source"]
+    # Short on screen: the rule and "common practice"; the handout is named in
+    # docs/sources.md, not in what users see.
+    assert "common practice" in found["source"] and "Durham" not in found["source"]
 
 
 def test_image_jump_step_between_unequal_segments() -> None:

@@ -83,7 +83,8 @@ def test_slab_off_goes_on_the_most_minus_lens() -> None:
     assert slab["warnings"] == []
     assert slab["near"]["vertical_base_up_right"] == pytest.approx(0.0, abs=1e-9)
     line = slab["details"]["line_mm"]
-    assert line == pytest.approx(-5.0, abs=1e-5)  # where the path reaches half of 4.0
+    # Halfway from the primary position to the 10 mm reading point (common practice).
+    assert line == pytest.approx(-10 / 2)
     assert remedies_of(document)["reverse_slab"]["details"]["eye"] == "left"
 
 
@@ -139,15 +140,23 @@ def test_the_recommended_slab_off_brings_the_near_residual_under_the_threshold(
 
 def test_dissimilar_segments_on_the_worked_example() -> None:
     """Durham handout case: 1.2 to cancel with the right's +3.00 add needs the right
-    segment OC 4 mm lower, 20 x 1.2 / 3 = 8 mm more diameter (common practice): R30.
-    The left's +1.00 add would need 24 mm less, past any round segment."""
+    segment OC 10 x 1.2 / 3 = 4 mm lower (Prentice's rule), 11 + 4 = 15 mm below the top:
+    a round segment has its OC at its centre (common practice), so R30, a size that is
+    made (common practice). The left stays R22."""
     remedy = remedies_of(DURHAM)["dissimilar_segments"]
     options = {o["eye"]: o for o in remedy["details"]["options"]}
-    assert options["right"]["diameter_change_mm"] == pytest.approx(8.0)
-    assert options["right"]["to_mm"] == 30 and options["left"]["feasible"] is False
-    assert remedy["applied_case"]["right"]["segment"]["diameter_mm"] == 30
+    needed_below = 22 / 2 + 10 * 1.2 / 3.0
+    assert options["right"]["to_mm"] == pytest.approx(needed_below)
+    assert options["right"]["kind"] == f"round {2 * needed_below:g} mm"
+    assert options["left"]["changed"] is False
+    assert remedy["applied_case"]["right"]["segment"]["diameter_mm"] == 2 * needed_below
     assert remedy["near"]["vertical_base_up_right"] == pytest.approx(0.0, abs=1e-9)
     assert options["right"]["image_jump"] == pytest.approx(4.5)  # 3 x 1.5 cm (Durham rule)
+    assert remedy["order_lines"] == [
+        "R: round 30 mm segment, top 3.0 mm below the distance reference point, optical "
+        "centre at its centre, 15.0 mm below its top (common practice)",
+        "L: round 22 mm segment as ordered, top 3.0 mm below the distance reference point, "
+        "optical centre 11.0 mm below its top"]
     assert remedy["recommended"]
 
 
@@ -157,18 +166,21 @@ def test_dissimilar_segments_need_segments() -> None:
     assert remedy["available"] is False and remedy["applied_case"] is None
 
 
-def test_compensated_flat_top_segment_centre() -> None:
-    """Without a round segment the remedy places a segment's OC: 2.0 to cancel with a
-    +2.00 add moves it 10 mm (Prentice's rule)."""
+def test_flat_top_pair_gets_a_made_round_segment() -> None:
+    """Flat-tops (OC about 5 mm below the top, common practice): R -5.00, L -3.00 read
+    10 mm down meet 5 and 3 base down, 2.0 base up before the left (Prentice's rule);
+    with +2.00 adds one segment OC must sit 10 mm deeper before the left: 5 + 10 = 15 mm,
+    the centre of a round 30 (common practice), which is made."""
     document = {"right": {"sphere": -5.0, "add": 2.0, "segment": {"top_mm": -4,
                                                                   "width_mm": 28}},
                 "left": {"sphere": -3.0, "add": 2.0, "segment": {"top_mm": -4,
                                                                  "width_mm": 28}},
                 "fitting": FITTING, "reading_zone": {"reading_depth_mm": 10}}
     remedy = remedies_of(document)["dissimilar_segments"]
-    chosen = remedy["details"]["chosen"]
-    segment = remedy["applied_case"][chosen]["segment"]
-    assert abs(segment["optical_centre_below_top_mm"] - 5.0) == pytest.approx(10.0)
+    assert remedy["details"]["chosen"] == "left"
+    segment = remedy["applied_case"]["left"]["segment"]
+    assert segment["shape"] == "round" and segment["diameter_mm"] == 2 * (5 + 10 * 2.0 / 2.0)
+    assert segment["optical_centre_below_top_mm"] - 5.0 == pytest.approx(10.0)
     assert remedy["near"]["vertical_base_up_right"] == pytest.approx(0.0, abs=1e-9)
 
 
@@ -212,18 +224,16 @@ def test_lowering_by_default_balances_near_and_distance() -> None:
     assert prism["base_up"] == pytest.approx(3.0)
 
 
-def test_near_only_prism_split_on_the_worked_example() -> None:
-    """Durham case as near-only spectacles: R +8.00, L +3.00 read 8 mm below their
-    centres, 6.4 and 2.4 base up (Prentice's rule): 4.0 to split, 2.0 base down before
-    the right and 2.0 base up before the left."""
+def test_near_only_spectacles_centred_for_near_need_no_split_prism() -> None:
+    """Durham case as near-only spectacles centred at the near visual points: the eyes read
+    through the optical centres, where Prentice's rule gives no prism, so there is nothing
+    to split (a prism would only make up for distance centring, which the pair need not
+    have)."""
     remedy = remedies_of(DURHAM)["near_prism_split"]
-    assert remedy["details"]["imbalance_without_prism"] == pytest.approx(4.0)
-    assert remedy["applied_case"]["right"]["prism"]["base_up"] == pytest.approx(-2.0)
-    assert remedy["applied_case"]["left"]["prism"]["base_up"] == pytest.approx(2.0)
-    assert remedy["applied_case"]["right"]["sphere"] == pytest.approx(8.0)
-    assert "add" not in remedy["applied_case"]["right"]
-    assert remedy["near"]["vertical_base_up_right"] == pytest.approx(0.0, abs=1e-9)
-    assert remedy["distance"]["from"].startswith("the distance spectacles")
+    assert remedy["available"] is False and remedy["why_not"].startswith("Not needed")
+    assert remedy["centring"] == "optical centres at the near visual points"
+    assert remedy["details"]["imbalance_without_prism"] == pytest.approx(0.0, abs=1e-9)
+    assert remedy["order_lines"] == [] and remedy["applied_case"] is None
 
 
 def test_reading_spectacles_and_contact_lenses() -> None:
