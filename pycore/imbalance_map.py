@@ -35,16 +35,8 @@ class GazeNet:
     vertical: float
     horizontal: float
     zones: tuple[str, str]
-    prescribed_vertical: float = 0.0
-    prescribed_horizontal: float = 0.0
-
-    @property
-    def induced_vertical(self) -> float:
-        return self.vertical - self.prescribed_vertical
-
-    @property
-    def induced_horizontal(self) -> float:
-        return self.horizontal - self.prescribed_horizontal
+    induced_vertical: float
+    induced_horizontal: float
 
 
 class NetSampler:
@@ -57,16 +49,25 @@ class NetSampler:
     def __init__(self, case: Case, geometry: ReadingGeometry,
                  prescribed: NetPrism | None = None) -> None:
         self.geometry = geometry
-        self.prescribed = prescribed if prescribed is not None else prescribed_net(case)
+        own = prescribed_net(case)
+        self.prescribed = prescribed if prescribed is not None else own
+        # What the lenses carry as prism beyond the prescribed prism (a finished case's
+        # decentration prism, say) counts as induced; nothing, and exactly 0, otherwise.
+        self._extra_vertical = own.vertical_base_up_right - self.prescribed.vertical_base_up_right
+        self._extra_horizontal = own.horizontal_base_in - self.prescribed.horizontal_base_in
         self._right = LensSampler(case.right, "right")
         self._left = LensSampler(case.left, "left")
+        self._right_prism, self._left_prism = case.right.prism, case.left.prism
 
     def at(self, drop_mm: float, lateral_mm: float = 0.0) -> GazeNet:
-        right = self._right.at(*self.geometry.coords("right", drop_mm, lateral_mm))
-        left = self._left.at(*self.geometry.coords("left", drop_mm, lateral_mm))
-        return GazeNet(right[1] - left[1], right[0] + left[0], (right[2], left[2]),
-                       self.prescribed.vertical_base_up_right,
-                       self.prescribed.horizontal_base_in)
+        right = self._right.unprescribed_at(*self.geometry.coords("right", drop_mm, lateral_mm))
+        left = self._left.unprescribed_at(*self.geometry.coords("left", drop_mm, lateral_mm))
+        rp, lp = self._right_prism, self._left_prism
+        vertical = (right[1] + rp.base_up) - (left[1] + lp.base_up)
+        horizontal = (right[0] + rp.base_in) + (left[0] + lp.base_in)
+        return GazeNet(vertical, horizontal, (right[2], left[2]),
+                       right[1] - left[1] + self._extra_vertical,
+                       right[0] + left[0] + self._extra_horizontal)
 
 
 def prescribed_net(case: Case) -> NetPrism:
