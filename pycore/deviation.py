@@ -62,7 +62,7 @@ MIN_FACTOR = 0.2
 
 STACKING_CAUTION = (
     "Loose prisms stacked in the same direction before one eye do not add up: 40 + 5 "
-    "measured about 59 (Thompson & Guyton, Ophthalmology 1983, on ophthalmic prisms). "
+    "measured about 59 (a published measurement). "
     "Split a large measurement between the two eyes, or use a single prism, held as it was "
     "calibrated.")
 DEVIATION_CAUTIONS = (

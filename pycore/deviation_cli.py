@@ -25,14 +25,14 @@ lenses the eyes used ("points", mm from each reference point).
 
 The tool gives the eye's rotation behind the lens, u = (measured + P) /
 (1 - d F) with P the prism prescribed before that eye (measured = u(1 - d F)
-- P; Scattergood, Brown & Guyton 1983 where no prism is prescribed), and,
+- P; derived with Prentice's rule), and,
 labelled separately, the deviation the spectacles leave uncorrected,
 measured / (1 - d F). It says why they differ: plus lenses make the
 measurement smaller, minus lenses larger, and only the lens before the
 non-fixating eye counts; the line of sight crosses the lens d u from the
 straight-ahead point. It also gives the prism the spectacles themselves put before the eyes
-at the points used, and cautions about stacking loose prisms (Thompson &
-Guyton 1983). An aid to clinical judgement, which belongs to licensed
+at the points used, and cautions about stacking loose prisms. Sources are
+listed in docs/sources.md. An aid to clinical judgement, which belongs to licensed
 practitioners.
 """
 

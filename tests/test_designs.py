@@ -39,7 +39,7 @@ def evaluated(right: dict[str, Any], left: dict[str, Any] | None = None,
 
 
 @pytest.mark.parametrize("shape, expected", [
-    # Common practice (shared/domain-sources.md, Remedies): round at the centre (R22: 11 mm),
+    # Common practice (docs/sources.md, Remedies): round at the centre (R22: 11 mm),
     # flat-top D28 about 5 mm below the top, executive (straight across) on the line.
     ({"shape": "round", "diameter_mm": 22}, 11.0),
     ({"diameter_mm": 24}, 12.0),

@@ -71,7 +71,7 @@ def test_reading_point_rules() -> None:
 
 def test_convergence_inset_at_the_reading_point() -> None:
     """pycore.fitting's inset for the power looked through: plano, PD 63 split 31.5, W 400,
-    s 27 -> near CD 59.02 (shared/domain-sources.md, derived), so inset 1.99 each."""
+    s 27 -> near CD 59.02 (docs/sources.md, derived), so inset 1.99 each."""
     document = {"right": {"sphere": 0}, "left": {"sphere": 0},
                 "fitting": {"right": {"mono_pd_mm": 31.5}, "left": {"mono_pd_mm": 31.5}},
                 "reading_zone": {"reading_depth_mm": 10}}

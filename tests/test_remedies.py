@@ -188,7 +188,7 @@ def test_flat_top_pair_gets_a_made_round_segment() -> None:
 @given(st.floats(-8, 8), st.floats(-8, 8), st.floats(6, 14), st.floats(-5, 10))
 def test_lowering_the_centres_trades_near_for_distance_linearly(
         right: float, left: float, reading: float, lowered: float) -> None:
-    """shared/domain-sources.md, derived from Prentice's rule: lowering both distance
+    """docs/sources.md, derived from Prentice's rule: lowering both distance
     centres by h leaves dF (r - h) / 10 at the reading level and makes dF h / 10 at
     distance (here signed: dF = right - left vertical power, net base up before the
     right positive)."""
