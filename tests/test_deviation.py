@@ -176,7 +176,7 @@ def test_cli_text(tmp_path: Any, capsys: pytest.CaptureFixture[str]) -> None:
     assert main(["deviation", str(path), "--text"]) == 0
     out = capsys.readouterr().out
     assert "At the eye: 36.0 base out (eso-deviation)" in out
-    assert "Thompson & Guyton" in out
+    assert "40 + 5 measured about 59" in out  # stacking caution (Thompson & Guyton 1983)
 
 
 def test_worker_action() -> None:
