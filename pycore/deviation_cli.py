@@ -24,15 +24,15 @@ rotation distance (centre_of_rotation_mm, default 27) and the points of the
 lenses the eyes used ("points", mm from each reference point).
 
 The tool gives the eye's rotation behind the lens, u = (measured + P) /
-(1 - d F) with P the prism prescribed before that eye (measured = u(1 - d F)
-- P; derived with Prentice's rule), and,
-labelled separately, the deviation the spectacles leave uncorrected,
-measured / (1 - d F). It says why they differ: plus lenses make the
-measurement smaller, minus lenses larger, and only the lens before the
-non-fixating eye counts; the line of sight crosses the lens d u from the
-straight-ahead point. It also gives the prism the spectacles themselves put before the eyes
-at the points used, and cautions about stacking loose prisms. Sources are
-listed in docs/sources.md. An aid to clinical judgement, which belongs to licensed
+(1 - d F) with P the prism prescribed before that eye (measured =
+u(1 - d F) - P, derived with Prentice's rule), and, labelled separately,
+the deviation the spectacles leave uncorrected, measured / (1 - d F). It
+says why they differ: plus lenses make the measurement smaller, minus
+lenses larger, and only the lens before the non-fixating eye counts; the
+line of sight crosses the lens d u from the straight-ahead point. It also
+gives the prism the spectacles themselves put before the eyes at the points
+used, and cautions about stacking loose prisms (sources: docs/sources.md).
+An aid to clinical judgement, which belongs to licensed
 practitioners.
 """
 
