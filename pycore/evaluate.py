@@ -26,6 +26,7 @@ from pycore.optics.eyes import EYES, Eye
 from pycore.reading.reading_point import find_fitting_point
 from pycore.reading.remedies.side_by_side import remedies_section
 from pycore.reading.zone import reading_zone_section
+from pycore.rounding import without_negative_zero
 from pycore.spectacles.binocular import NetPrism
 from pycore.spectacles.decentration import (
     decentration_for_prism,
@@ -105,7 +106,14 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
             "from_thinning": part.from_thinning.as_dict(eye),
         }
         result[eye] = entry
+    # The induced part: the total net minus the net of the prescribed prism, which is
+    # the wearer's correction and not an imbalance (docs/case-format.md, "Output").
+    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
     result["net"] = net.as_dict()
+    result["net"]["induced_vertical_base_up_right"] = (net.vertical_base_up_right
+                                                       - prescribed.vertical_base_up_right)
+    result["net"]["induced_horizontal_base_in"] = (net.horizontal_base_in
+                                                   - prescribed.horizontal_base_in)
     return result
 
 
@@ -224,4 +232,5 @@ def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
         verdicts = verification_section(case, result)
         if verdicts is not None:
             result["verification"] = verdicts
+    without_negative_zero(result)
     return result

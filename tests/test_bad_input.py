@@ -1,5 +1,5 @@
 """A catalogue of bad inputs: each is refused with exit status 2, nothing on standard
-output, and one sentence on standard error that names the field (shared/case-format.md)."""
+output, and one sentence on standard error that names the field (docs/case-format.md)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""The command line honours shared/case-format.md to the letter."""
+"""The command line honours docs/case-format.md to the letter."""
 
 from __future__ import annotations
 
@@ -9,7 +9,7 @@ import pytest
 from cli_runner import ROOT, run_cli
 
 MINIMUM = {
-    # The minimum input of shared/case-format.md.
+    # The minimum input of docs/case-format.md.
     "right": {"sphere": -3.25, "cylinder": -0.75, "axis": 20,
               "prism": {"base_in": 0, "base_up": 0}},
     "left": {"sphere": -1.00, "cylinder": 0, "axis": 0},
@@ -67,7 +67,7 @@ def test_points_from_the_fitting_when_left_out() -> None:
     names = [p["name"] for p in out["points"]]
     assert names == ["distance", "near"]
     near = out["points"][1]["position"]
-    # Derived (domain-sources): PD 63 at 400 mm, s 27 mm, plano: near CD 59.02.
+    # Derived (docs/sources.md): PD 63 at 400 mm, s 27 mm, plano: near CD 59.02.
     assert 63 - near["right"]["in_mm"] - near["left"]["in_mm"] == pytest.approx(59.02, abs=0.005)
     assert near["right"]["up_mm"] == -10  # common practice default reading depth
 

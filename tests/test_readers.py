@@ -56,7 +56,7 @@ def entry(result: dict[str, Any], pair_id: str) -> dict[str, Any]:
 
 
 def test_readers_example_066_on_near_cd_60() -> None:
-    """Derived by Prentice's rule (domain sources, ready-made readers): +2.50 readers with
+    """Derived by Prentice's rule (docs/sources.md, ready-made readers): +2.50 readers with
     OCs 66 mm apart, near CD 60: 3 mm per eye outward, 0.75 base out each, 1.5 total."""
     result = readers_request(request())
     a = entry(result, "N66")
@@ -92,7 +92,7 @@ def test_near_cd_from_distance_pd_uses_the_lead_inset() -> None:
     fit = fit_pair(wearer, StockPair("X", 2.5, 60.0, "", 1))
     inset = near_inset_mm(32, 400, 27, 2.5)
     assert fit.near_monos_mm == pytest.approx((32 - inset, 32 - inset))
-    # plano check of the inset rule (domain sources): PD 63, W 400, s 27 -> near CD 59.02
+    # plano check of the inset rule (docs/sources.md): PD 63, W 400, s 27 -> near CD 59.02
     assert 63 - 2 * near_inset_mm(31.5, 400, 27) == pytest.approx(59.02, abs=0.01)
 
 

@@ -1,6 +1,6 @@
 """Bad inputs for the lens-design and reading-zone fields: each refused by
 ``python -m pycore evaluate -`` with exit status 2, nothing on standard output and one
-sentence on standard error naming the field (shared/case-format.md)."""
+sentence on standard error naming the field (docs/case-format.md)."""
 
 from __future__ import annotations
 

@@ -56,7 +56,7 @@ def test_every_tolerance_table_carries_its_source_and_certainty() -> None:
         assert table.source and table.certainty in CERTAINTIES
         for row in table.rows:
             assert row.source and row.certainty in CERTAINTIES
-    assert tables["iso-21987-2009"].unverified  # from memory (domain sources)
+    assert tables["iso-21987-2009"].unverified  # from memory (docs/sources.md)
     assert not tables["ansi-z80.1-2015"].unverified
 
 
@@ -188,7 +188,7 @@ def test_unmounted_either_limit_suffices() -> None:
 
 
 def test_iso_21987_verdicts_are_flagged_unverified() -> None:
-    """ISO 21987 values from memory: every verdict says so (domain sources)."""
+    """ISO 21987 values from memory: every verdict says so (docs/sources.md)."""
     result = run(pair("-1.00 DS", "-1.00 DS", {"right": {"prism": "0.4 BU"}},
                       standard="iso-21987-2009"))
     assert result["unverified"] is True

@@ -1,6 +1,6 @@
 """The core against worked examples published in the trade's literature.
 
-Each check value names its source (see ../shared/domain-sources.md).
+Each check value names its source (see docs/sources.md).
 """
 
 from __future__ import annotations
@@ -47,7 +47,7 @@ def test_prentice_scalar_rule() -> None:
     # resolving prism: R 1.5 BU with 2 BI = 2.5 at 37; L 1.5 BD with 2 BI = 2.5 at 217.
     ("right", (2.0, 1.5), 2.5, 37),
     ("left", (2.0, -1.5), 2.5, 217),
-    # Derived with the same rule (domain-sources): R 3 BO with 4 BU = 5 at 127.
+    # Derived with the same rule (docs/sources.md): R 3 BO with 4 BU = 5 at 127.
     ("right", (-3.0, 4.0), 5.0, 127),
 ])
 def test_360_degree_notation(eye: str, written: tuple[float, float], amount: float,
@@ -61,7 +61,7 @@ def test_360_degree_notation(eye: str, written: tuple[float, float], amount: flo
 
 
 @pytest.mark.parametrize("power, near_cd", [
-    # Derived in domain-sources from near CD = PD - PD / [1 + W (1/s - F/1000)]:
+    # Derived in docs/sources.md from near CD = PD - PD / [1 + W (1/s - F/1000)]:
     # PD 63, W 400 mm, s 27 mm: plano 59.02, F -9: 59.76, F +5: 58.44.
     (0.0, 59.02), (-9.0, 59.76), (5.0, 58.44),
 ])
@@ -129,7 +129,7 @@ def test_bifocal_worked_example_through_evaluate(cli) -> None:  # type: ignore[n
 
 
 def test_above_the_segment_nothing_changes() -> None:
-    """shared/case-format.md: points above the segment top line meet the distance prism only."""
+    """docs/case-format.md: points above the segment top line meet the distance prism only."""
     case = json.loads(json.dumps(BIFOCAL_CASE))
     case["points"] = [{"name": "just above", "right": {"in_mm": 0, "up_mm": -2.9},
                        "left": {"in_mm": 0, "up_mm": -2.9}}]
@@ -139,7 +139,7 @@ def test_above_the_segment_nothing_changes() -> None:
 
 
 def test_slab_off_adds_below_its_line_only() -> None:
-    """shared/case-format.md: points at or below the slab line gain (0, base_up)."""
+    """docs/case-format.md: points at or below the slab line gain (0, base_up)."""
     case = {"right": {"sphere": -1.0, "slab_off": {"base_up": 3.0, "line_mm": -3}},
             "left": {"sphere": -1.0},
             "points": [{"name": "below", "right": {"up_mm": -3}, "left": {"up_mm": -3}},

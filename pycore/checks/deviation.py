@@ -3,17 +3,28 @@
 The prism held before the non-fixating eye measures the deviation in object
 space, through that eye's spectacle lens. An eye turned by u (prism dioptres)
 about its centre of rotation looks through its lens d u from where it would
-look straight ahead (d in metres gives cm per prism dioptre); there the lens
-deviates the line of sight by -F d u (Prentice's rule), so the measurement is
-m = u (1 - d F), F being the power in the meridian of the deviation:
+look straight ahead (d in metres gives cm per prism dioptre); there the lens's
+power deviates the line of sight by -F d u (Prentice's rule) and any prism
+prescribed in the lens by P. The loose prism m and the prescribed prism P
+together neutralise what the rotation shows in object space:
 
-    deviation at the eye = measured / (1 - d F)
+    m + P = u (1 - d F),  so  measured = u (1 - d F) - P
 
-(Scattergood, Brown & Guyton, Am J Ophthalmol 1983, on prism measurements
-through spectacles.) Plus lenses make the measurement smaller than the
-deviation at the eye, minus lenses larger; the lens before the fixating eye
-does not change it. Check (derived): 45 measured through -10.00, d 25 mm:
-45 / 1.25 = 36. In matrix form, with an oblique cylinder: u = (I - d F)^-1 m.
+(P with the sign of a prism base, as written before that eye: the prescribed
+prism enters with the sign of the deviation it corrects). Hence
+
+    the eye's rotation u = (m + P) / (1 - d F)
+    left uncorrected by the spectacles, at the eye = m / (1 - d F)
+
+F being the power in the meridian of the deviation (Scattergood, Brown & Guyton,
+Am J Ophthalmol 1983, where no prism is prescribed; the prism term follows from
+the same ray trace, docs/sources.md). In matrix form, with an oblique cylinder:
+u = (I - d F)^-1 (m + P), and each meridian's factor is read off that result.
+Plus lenses make the measurement smaller than the deviation at the eye, minus
+lenses larger; the lens before the fixating eye does not change it. Check
+(derived): 45 measured through -10.00, d 25 mm: 45 / 1.25 = 36. The line of
+sight crosses the lens d u from the straight-ahead point, following the
+rotation.
 
 Signs: prisms are given as held before the non-fixating eye, base_in +
 (base out -), base_up + (base down -). Base out neutralises an
@@ -43,6 +54,7 @@ from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye, other
 from pycore.optics.power import PowerMatrix, Prescription
 from pycore.optics.prism import Prism
+from pycore.rounding import fixed
 from pycore.spectacles.binocular import NetPrism
 from pycore.spectacles.fitting import DEFAULT_CENTRE_OF_ROTATION_MM
 from pycore.spectacles.gaze import LensPoint
@@ -58,7 +70,7 @@ MIN_FACTOR = 0.2
 
 STACKING_CAUTION = (
     "Loose prisms stacked in the same direction before one eye do not add up: 40 + 5 "
-    "measured about 59 (Thompson & Guyton, Ophthalmology 1983, on ophthalmic prisms). "
+    "measured about 59 (a published measurement). "
     "Split a large measurement between the two eyes, or use a single prism, held as it was "
     "calibrated.")
 DEVIATION_CAUTIONS = (
@@ -106,24 +118,36 @@ def deviation_at_eye(measured: Prism, power: PowerMatrix, eye: Eye,
 
 
 def through_spectacles(job: ThroughSpectacles) -> dict[str, Any]:
-    """The deviation at the eye, why it differs, and the spectacles' own prism."""
+    """The eye's rotation, the deviation the spectacles leave uncorrected, why they differ
+    from the measurement, and the spectacles' own prism."""
     eye = job.deviating
     lens = job.lens(eye)
     power = lens.power
-    true = deviation_at_eye(job.measured, power, eye, job.centre_of_rotation_mm)
+    prescribed = lens.prism
+    rotation = deviation_at_eye(job.measured + prescribed, power, eye, job.centre_of_rotation_mm)
+    uncorrected = deviation_at_eye(job.measured, power, eye, job.centre_of_rotation_mm)
     d_mm = job.centre_of_rotation_mm
-    crossing = {"in_mm": -true.base_in * d_mm / 100.0, "up_mm": -true.base_up * d_mm / 100.0}
-    lens_effect = job.measured - true
+    crossing = {"in_mm": -rotation.base_in * d_mm / 100.0 + 0.0,
+                "up_mm": -rotation.base_up * d_mm / 100.0 + 0.0}
+    neutralised = job.measured + prescribed
+    lens_effect = neutralised - rotation
+    oblique = abs(power.xy) > 1e-9
     meridians = {}
     for name, component, meridian_power in (("horizontal", "base_in", power.xx),
                                             ("vertical", "base_up", power.yy)):
         measured = getattr(job.measured, component)
-        at_eye = getattr(true, component)
+        total = getattr(neutralised, component)
+        at_eye = getattr(rotation, component)
+        diagonal = 1.0 / (1.0 - d_mm / 1000.0 * meridian_power)
         meridians[name] = {
-            "measured": measured, "at_eye": at_eye,
+            "measured": measured,
+            "prescribed": getattr(prescribed, component),
+            "at_eye": at_eye,
+            "uncorrected_at_eye": getattr(uncorrected, component),
             "power_in_meridian_d": meridian_power,
-            "factor": 1.0 / (1.0 - d_mm / 1000.0 * meridian_power),
-            "why": _why(name, eye, measured, at_eye, meridian_power),
+            # The factor the matrix result gives in this meridian (what the words use).
+            "factor": at_eye / total if abs(total) > 1e-12 else diagonal,
+            "why": _why(name, eye, measured, total, at_eye, meridian_power, oblique),
         }
     spectacle = {e: job.lens(e).prism_at(job.point(e), e).total for e in EYES}
     cautions = [STACKING_CAUTION, *DEVIATION_CAUTIONS, *CAUTIONS[1:]]
@@ -137,15 +161,22 @@ def through_spectacles(job: ThroughSpectacles) -> dict[str, Any]:
         "deviating": eye,
         "centre_of_rotation_mm": d_mm,
         "measured": {**job.measured.as_dict(eye), "in_words": _deviation_words(job.measured,
-                                                                               eye)},
-        "at_eye": {**true.as_dict(eye), "in_words": _deviation_words(true, eye)},
+                                                                               eye),
+                     "label": "measured through the spectacles (loose prism)"},
+        "at_eye": {**rotation.as_dict(eye), "in_words": _deviation_words(rotation, eye),
+                   "label": "the eye's rotation behind the lens"},
+        "uncorrected": {**uncorrected.as_dict(eye),
+                        "in_words": _deviation_words(uncorrected, eye),
+                        "label": "the deviation the spectacles leave uncorrected, at the eye"},
+        "prescribed_prism": {**prescribed.as_dict(eye),
+                             "label": f"prism prescribed before the {eye} eye"},
         "meridians": meridians,
-        "oblique_cylinder": abs(power.xy) > 1e-9,
+        "oblique_cylinder": oblique,
         "lens_that_counts": {"eye": eye, "written": lens.prescription.written(),
                              "horizontal_power_d": power.xx, "vertical_power_d": power.yy},
         "lens_effect": lens_effect.as_dict(eye),
         "line_of_sight_on_lens_mm": crossing,
-        "explanation": _explanation(job, true, lens_effect),
+        "explanation": _explanation(job, rotation, uncorrected, lens_effect),
         "spectacle_prism": {
             "points": {e: job.point(e).as_dict() for e in EYES},
             **{e: spectacle[e].as_dict(e) for e in EYES},
@@ -155,33 +186,48 @@ def through_spectacles(job: ThroughSpectacles) -> dict[str, Any]:
     }
 
 
-def _why(meridian: str, eye: Eye, measured: float, at_eye: float, power: float) -> str:
-    if abs(measured) < 0.005:
+def _why(meridian: str, eye: Eye, measured: float, total: float, at_eye: float, power: float,
+         oblique: bool) -> str:
+    if abs(total) < 0.005:
         return f"No {meridian} deviation measured."
-    if abs(power) < 0.005:
-        return (f"The {eye} lens has no power in the {meridian} meridian: the measurement is "
-                "the deviation at the eye.")
-    kind = "plus" if power > 0 else "minus"
-    effect = "smaller" if power > 0 else "larger"
-    return (f"The {eye} lens is {kind} ({power:+.2f} D) in the {meridian} meridian, which makes "
-            f"the measurement {effect} than the deviation at the eye: {abs(measured):.1f} "
-            f"measured is {abs(at_eye):.1f} at the eye.")
+    if abs(power) < 0.005 and not oblique:
+        return (f"The {eye} lens has no power in the {meridian} meridian: the measurement"
+                f"{' with the prescribed prism' if abs(total - measured) >= 0.005 else ''} "
+                "is the deviation at the eye.")
+    effect = "smaller" if abs(total) < abs(at_eye) else "larger"
+    kind = "plus" if power > 0 else "minus" if power < 0 else "plano"
+    prism = (f" (with the prescribed prism, {fixed(abs(total), 1)})"
+             if abs(total - measured) >= 0.005 else "")
+    coupling = (" The oblique cylinder also carries part of the other meridian's deviation "
+                "into this one (power matrix)." if oblique else "")
+    return (f"The {eye} lens is {kind} ({fixed(power, 2, sign=True)} D) in the {meridian} "
+            f"meridian; here it makes the measurement {effect} than the eye's rotation: "
+            f"{fixed(abs(measured), 1)} measured{prism} is {fixed(abs(at_eye), 1)} at the eye "
+            f"(factor {fixed(at_eye / total, 3)}).{coupling}")
 
 
-def _explanation(job: ThroughSpectacles, true: Prism, lens_effect: Prism) -> list[str]:
+def _explanation(job: ThroughSpectacles, rotation: Prism, uncorrected: Prism,
+                 lens_effect: Prism) -> list[str]:
     eye = job.deviating
     lines = [
         f"The {job.fixating} eye fixated, so the lens before the {eye} eye is the one that "
         f"changes the measurement; the {job.fixating} lens does not.",
     ]
-    if true.amount >= 0.005:
-        shift = true.amount * job.centre_of_rotation_mm / 100.0
-        larger = job.measured.amount > true.amount
+    if rotation.amount >= 0.005:
+        shift = rotation.amount * job.centre_of_rotation_mm / 100.0
+        larger = (job.measured + job.lens(eye).prism).amount > rotation.amount
         lines.append(
-            f"Turned {true.amount:.1f} prism dioptres, the {eye} eye looks through its lens "
-            f"about {shift:.1f} mm from where it would look straight ahead; there the lens's "
-            f"own prism (Prentice's rule) makes the deviation seen from outside about "
-            f"{lens_effect.amount:.1f} prism dioptres {'larger' if larger else 'smaller'}.")
+            f"Turned {fixed(rotation.amount, 1)} prism dioptres, the {eye} eye looks through "
+            f"its lens about {fixed(shift, 1)} mm from where it would look straight ahead; "
+            f"there the lens's power (Prentice's rule) makes the deviation seen from outside "
+            f"about {fixed(lens_effect.amount, 1)} prism dioptres "
+            f"{'larger' if larger else 'smaller'}.")
+    if job.lens(eye).prism.amount >= 0.005:
+        lines.append(
+            f"The {eye} lens carries {job.lens(eye).prism.in_words()} prescribed: the "
+            f"measurement is what is left beyond it. The eye's rotation is "
+            f"{_deviation_words(rotation, eye)}; the spectacles leave "
+            f"{_deviation_words(uncorrected, eye)} uncorrected (at the eye).")
     return lines
 
 
@@ -189,11 +235,13 @@ def _deviation_words(prism: Prism, eye: Eye) -> str:
     parts = []
     if abs(prism.base_in) >= 0.005:
         kind = "eso" if prism.base_in < 0 else "exo"
-        parts.append(f"{abs(prism.base_in):.1f} base {'out' if prism.base_in < 0 else 'in'} "
+        parts.append(f"{fixed(abs(prism.base_in), 1)} base "
+                     f"{'out' if prism.base_in < 0 else 'in'} "
                      f"({kind}-deviation)")
     if abs(prism.base_up) >= 0.005:
         kind = "hypo" if prism.base_up > 0 else "hyper"
-        parts.append(f"{abs(prism.base_up):.1f} base {'up' if prism.base_up > 0 else 'down'} "
+        parts.append(f"{fixed(abs(prism.base_up), 1)} base "
+                     f"{'up' if prism.base_up > 0 else 'down'} "
                      f"({eye} {kind}-deviation)")
     return ", ".join(parts) if parts else "no deviation"
 

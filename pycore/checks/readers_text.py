@@ -46,8 +46,10 @@ def deviation_text(result: dict[str, Any]) -> str:
     lines = ["Prism Desk - deviation measured through spectacles", "",
              f"Measured (prisms before the {result['deviating']} eye, the "
              f"{result['fixating']} fixating): {result['measured']['in_words']}",
-             f"At the eye: {result['at_eye']['in_words']} "
-             f"(lens to centre of rotation {result['centre_of_rotation_mm']:g} mm)", ""]
+             f"At the eye: {result['at_eye']['in_words']}, the eye's rotation behind the "
+             f"lens (lens to centre of rotation {result['centre_of_rotation_mm']:g} mm)",
+             f"Left uncorrected by the spectacles (at the eye): "
+             f"{result['uncorrected']['in_words']}", ""]
     lines.extend(result["explanation"])
     for meridian in result["meridians"].values():
         if abs(meridian["measured"]) >= 0.005:

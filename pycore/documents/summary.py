@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from pycore.optics.eyes import EYES
+from pycore.rounding import fixed
 
 
 def text_summary(result: dict[str, Any]) -> str:
@@ -39,6 +40,12 @@ def text_summary(result: dict[str, Any]) -> str:
             prism = point[eye]
             lines.append(f"  {eye:5}  {prism['in_words']}  ({prism['in_360_words']})")
         lines.append(f"  net    {point['net']['vertical_in_words']}")
+        induced = point["net"].get("induced_vertical_base_up_right")
+        if induced is not None and abs(induced - point["net"]["vertical_base_up_right"]) >= 0.005:
+            way = "right" if induced > 0 else "left"
+            lines.append("         induced (beyond the prescribed prism): "
+                         + (f"{fixed(abs(induced))} base up before the {way} eye"
+                            if abs(induced) >= 0.005 else "none"))
         lines.append(f"         {point['net']['horizontal_in_words']}")
     for section in result.values():
         text = section.get("summary_lines") if isinstance(section, dict) else None

@@ -6,6 +6,10 @@ position and ``lateral_mm`` toward the wearer's right (both mm on the lens
 plane, both eyes together, converging as they drop). Net values as in the case
 format: ``vertical_base_up_right`` = base_up(right) - base_up(left) and
 ``horizontal_base_in`` = base_in(right) + base_in(left), prism dioptres.
+
+Each total has an induced part beside it: the total minus the net of the
+prescribed prism (``induced_...``). The threshold is judged on the induced part:
+prescribed prism is the wearer's correction, not an imbalance (docs/sources.md).
 """
 
 from __future__ import annotations
@@ -17,6 +21,7 @@ from typing import Any
 from pycore.documents.cases import Case
 from pycore.optics.eyes import EYES
 from pycore.reading.reading_point import ReadingGeometry
+from pycore.spectacles.binocular import NetPrism
 from pycore.spectacles.sampler import LensSampler
 
 _BISECTIONS = 12  # a 0.5 mm bracket halved 12 times: about a tenth of a micrometre
@@ -24,25 +29,50 @@ _BISECTIONS = 12  # a 0.5 mm bracket halved 12 times: about a tenth of a microme
 
 @dataclass(frozen=True)
 class GazeNet:
-    """Net prism for one gaze (prism dioptres), with each eye's zone."""
+    """Net prism for one gaze (prism dioptres), with each eye's zone: the totals and the
+    net of the prescribed prism, whose difference is the induced part."""
 
     vertical: float
     horizontal: float
     zones: tuple[str, str]
+    induced_vertical: float
+    induced_horizontal: float
 
 
 class NetSampler:
-    """Net prism for many gazes of one case (see pycore.spectacles.sampler)."""
+    """Net prism for many gazes of one case (see pycore.spectacles.sampler).
 
-    def __init__(self, case: Case, geometry: ReadingGeometry) -> None:
+    ``prescribed``: the net of the prescribed prism the induced part is measured from;
+    by default the case's own (a remedy's finished case passes the original's, since a
+    remedy never changes the prescription)."""
+
+    def __init__(self, case: Case, geometry: ReadingGeometry,
+                 prescribed: NetPrism | None = None) -> None:
         self.geometry = geometry
+        own = prescribed_net(case)
+        self.prescribed = prescribed if prescribed is not None else own
+        # What the lenses carry as prism beyond the prescribed prism (a finished case's
+        # decentration prism, say) counts as induced; nothing, and exactly 0, otherwise.
+        self._extra_vertical = own.vertical_base_up_right - self.prescribed.vertical_base_up_right
+        self._extra_horizontal = own.horizontal_base_in - self.prescribed.horizontal_base_in
         self._right = LensSampler(case.right, "right")
         self._left = LensSampler(case.left, "left")
+        self._right_prism, self._left_prism = case.right.prism, case.left.prism
 
     def at(self, drop_mm: float, lateral_mm: float = 0.0) -> GazeNet:
-        right = self._right.at(*self.geometry.coords("right", drop_mm, lateral_mm))
-        left = self._left.at(*self.geometry.coords("left", drop_mm, lateral_mm))
-        return GazeNet(right[1] - left[1], right[0] + left[0], (right[2], left[2]))
+        right = self._right.unprescribed_at(*self.geometry.coords("right", drop_mm, lateral_mm))
+        left = self._left.unprescribed_at(*self.geometry.coords("left", drop_mm, lateral_mm))
+        rp, lp = self._right_prism, self._left_prism
+        vertical = (right[1] + rp.base_up) - (left[1] + lp.base_up)
+        horizontal = (right[0] + rp.base_in) + (left[0] + lp.base_in)
+        return GazeNet(vertical, horizontal, (right[2], left[2]),
+                       right[1] - left[1] + self._extra_vertical,
+                       right[0] + left[0] + self._extra_horizontal)
+
+
+def prescribed_net(case: Case) -> NetPrism:
+    """The net of the prism prescribed in the two lenses (prism dioptres)."""
+    return NetPrism.between(case.right.prism, case.left.prism)
 
 
 def _steps(start: float, stop: float, step: float) -> list[float]:
@@ -71,10 +101,11 @@ def imbalance_map(sampler: NetSampler, depth_mm: float, half_width_mm: float,
     drops = _steps(0.0, depth_mm, step_mm)
     laterals = (_steps(-half_width_mm, half_width_mm, step_mm) if half_width_mm > 0
                 else [0.0])
-    vertical, horizontal, zones_r, zones_l = [], [], [], []
+    vertical, induced, horizontal, zones_r, zones_l = [], [], [], [], []
     for drop in drops:
         cells = [sampler.at(drop, lateral) for lateral in laterals]
         vertical.append([cell.vertical for cell in cells])
+        induced.append([cell.induced_vertical for cell in cells])
         horizontal.append([cell.horizontal for cell in cells])
         zones_r.append([cell.zones[0] for cell in cells])
         zones_l.append([cell.zones[1] for cell in cells])
@@ -84,6 +115,7 @@ def imbalance_map(sampler: NetSampler, depth_mm: float, half_width_mm: float,
         "drop_mm": drops,
         "lateral_mm": laterals,
         "vertical_base_up_right": vertical,
+        "induced_vertical_base_up_right": induced,
         "horizontal_base_in": horizontal,
         "zones": {"right": zones_r, "left": zones_l},
         "scale": {"vertical_max_abs": max(flat_v), "horizontal_max_abs": max(flat_h),
@@ -105,6 +137,7 @@ def reading_path(sampler: NetSampler, depth_mm: float, step_mm: float) -> list[d
         path.append({
             "drop_mm": drop,
             "vertical_base_up_right": net.vertical,
+            "induced_vertical_base_up_right": net.induced_vertical,
             "horizontal_base_in": net.horizontal,
             "points": {eye: dict(zip(("in_mm", "up_mm"), sampler.geometry.coords(eye, drop),
                                      strict=True)) for eye in EYES},
@@ -114,12 +147,12 @@ def reading_path(sampler: NetSampler, depth_mm: float, step_mm: float) -> list[d
 
 def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float,
                       step_mm: float = 0.5) -> float | None:
-    """The smallest drop down the reading path at which the vertical imbalance reaches
-    ``threshold`` (found to a few micrometres), or None if it stays below it to
+    """The smallest drop down the reading path at which the induced vertical imbalance
+    reaches ``threshold`` (found to a few micrometres), or None if it stays below it to
     ``depth_mm``."""
 
     def over(drop: float) -> bool:
-        return abs(sampler.at(drop).vertical) >= threshold
+        return abs(sampler.at(drop).induced_vertical) >= threshold
 
     if over(0.0):
         return 0.0

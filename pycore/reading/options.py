@@ -33,14 +33,11 @@ WORN_AS = ("spectacles", "reading_spectacles", "contact_lenses")
 lens's reference point); ``contact_lenses``: the lens moves with the eye."""
 
 DEFAULT_THRESHOLD = 1.0
-THRESHOLD_SOURCE = (
-    "a common rule of thumb: about 1 prism dioptre of vertical imbalance at the reading "
-    "level is the usual trigger to act (McCarthy, Optometry in Practice, 2013; Optician "
-    "CPD article on centration and prismatic effects, BS 2738 era); tolerance differs "
-    "between wearers")
+THRESHOLD_SOURCE = "common practice (rule of thumb); tolerance differs between wearers"
+"""About 1 prism dioptre of induced vertical imbalance at the reading level is the usual
+trigger to act; published sources in docs/sources.md."""
 DEFAULT_BELOW_SEGMENT_TOP_MM = 5.0
-"""Common practice: the reading point a few mm into the segment; 5 mm is the geometry of
-the Durham Technical Community College bifocal example (tops 3 mm, reading 8 mm down)."""
+"""Common practice: the reading point a few mm into the segment (docs/sources.md)."""
 DEFAULT_CORRECT_FRACTION = 1.0
 """Correct all of the reading-level imbalance; many correct two-thirds to all (common
 practice, no single source)."""

@@ -5,7 +5,10 @@ fitting-error sensitivity.
 
 Net values as in the case format (prism dioptres): ``vertical_base_up_right`` =
 base_up(right) - base_up(left), ``horizontal_base_in`` = base_in(right) +
-base_in(left). Gaze as in pycore.reading.reading_point (mm on the lens plane).
+base_in(left). Gaze as in pycore.reading.reading_point (mm on the lens plane). Beside
+each total its induced part (``induced_...``: the total minus the net of the
+prescribed prism); the threshold, its depth and the over-threshold flag are
+judged on the induced part, since prescribed prism is the wearer's correction.
 """
 
 from __future__ import annotations
@@ -16,6 +19,7 @@ from pycore.documents.cases import Case
 from pycore.optics.eyes import EYES, Eye
 from pycore.reading.fitting_errors import sensitivity
 from pycore.reading.imbalance_map import (
+    GazeNet,
     NetSampler,
     imbalance_map,
     map_depth_mm,
@@ -24,13 +28,13 @@ from pycore.reading.imbalance_map import (
 )
 from pycore.reading.options import THRESHOLD_SOURCE, options_of
 from pycore.reading.reading_point import ReadingGeometry, reading_geometry
+from pycore.rounding import fixed
 from pycore.spectacles.lens import Lens
 from pycore.spectacles.progressive import THINNING_PRISM_PER_ADD
 
 IMAGE_JUMP_SOURCE = ("image jump = add x distance from the segment top to the segment "
-                     "optical centre in cm (Durham Technical Community College opticianry "
-                     "handout on bifocal prism)")
-THINNING_SOURCE = "about 0.6 x add, base down before both eyes (Meister, 1998)"
+                     "optical centre in cm (Prentice's rule; common practice)")
+THINNING_SOURCE = "about 0.6 x add, base down before both eyes (common practice)"
 _INSET_MISMATCH_MM = 1.0
 
 
@@ -92,7 +96,7 @@ def image_jumps(case: Case) -> dict[str, Any]:
         amounts[eye] = jump
         way = "base down" if jump > 0 else ("base up" if jump < 0 else "none")
         jumps[eye] = {"amount": abs(jump), "base_up": -jump, "at_up_mm": lens.segment.top_mm,
-                      "in_words": f"{abs(jump):.2f} {way}" if jump else "no image jump"}
+                      "in_words": f"{fixed(abs(jump))} {way}" if jump else "no image jump"}
     step = None
     if len(amounts) == 2 and case.right.segment is not None and case.left.segment is not None \
             and abs(case.right.segment.top_mm - case.left.segment.top_mm) < 1e-9:
@@ -108,7 +112,7 @@ def design_warnings(case: Case, geometry: ReadingGeometry) -> list[str]:
     if right is not None and left is not None \
             and abs(right.thinning_prism_base_down - left.thinning_prism_base_down) > 1e-9:
         differ = right.thinning_prism_base_down - left.thinning_prism_base_down
-        warnings.append(f"The thinning prism differs between the eyes by {abs(differ):.2f} "
+        warnings.append(f"The thinning prism differs between the eyes by {fixed(abs(differ))} "
                         "prism dioptres: it is meant to be yoked (equal), and the difference "
                         "is a vertical imbalance everywhere.")
     if (right is None) != (left is None):
@@ -119,8 +123,8 @@ def design_warnings(case: Case, geometry: ReadingGeometry) -> list[str]:
         if design is not None and geometry.worn_as == "spectacles" and abs(
                 design.near_inset_mm - geometry.near_inset_mm[index]) >= _INSET_MISMATCH_MM:
             warnings.append(
-                f"The {eye} near zone is inset {design.near_inset_mm:.1f} mm but the eye "
-                f"converges {geometry.near_inset_mm[index]:.1f} mm at this working distance: "
+                f"The {eye} near zone is inset {fixed(design.near_inset_mm, 1)} mm but the eye "
+                f"converges {fixed(geometry.near_inset_mm[index], 1)} mm at this working distance: "
                 "the add adds horizontal prism at the reading point.")
     return warnings
 
@@ -139,12 +143,15 @@ def reading_zone_section(case: Case, result: dict[str, Any]) -> dict[str, Any]:
         "threshold": {"vertical": options.threshold, "source": THRESHOLD_SOURCE},
         "geometry": geometry.as_dict(),
         "designs": {eye: describe_design(case.lens(eye), eye, geometry) for eye in EYES},
-        "at_distance": _net(distance.vertical, distance.horizontal, distance.zones),
-        "at_reading_point": _net(reading.vertical, reading.horizontal, reading.zones),
+        "prescribed_net": {"vertical_base_up_right": sampler.prescribed.vertical_base_up_right,
+                           "horizontal_base_in": sampler.prescribed.horizontal_base_in},
+        "at_distance": _net(distance),
+        "at_reading_point": {**_net(reading),
+                             "in_words": vertical_words(reading.induced_vertical)},
         "threshold_drop_mm": crossing,
         "threshold_point": ({eye: geometry.lens_point(eye, crossing).as_dict() for eye in EYES}
                             if crossing is not None else None),
-        "over_threshold_at_reading_point": abs(reading.vertical) >= options.threshold,
+        "over_threshold_at_reading_point": abs(reading.induced_vertical) >= options.threshold,
         "path": reading_path(sampler, depth, options.map_step_mm),
         "map": imbalance_map(sampler, depth, options.map_half_width_mm, options.map_step_mm),
         "image_jump": image_jumps(case),
@@ -158,9 +165,11 @@ def reading_zone_section(case: Case, result: dict[str, Any]) -> dict[str, Any]:
     return section
 
 
-def _net(vertical: float, horizontal: float, zones: tuple[str, str]) -> dict[str, Any]:
-    return {"vertical_base_up_right": vertical, "horizontal_base_in": horizontal,
-            "zones": {"right": zones[0], "left": zones[1]}}
+def _net(net: GazeNet) -> dict[str, Any]:
+    return {"vertical_base_up_right": net.vertical, "horizontal_base_in": net.horizontal,
+            "induced_vertical_base_up_right": net.induced_vertical,
+            "induced_horizontal_base_in": net.induced_horizontal,
+            "zones": {"right": net.zones[0], "left": net.zones[1]}}
 
 
 def _thinning(case: Case) -> dict[str, Any] | None:
@@ -175,11 +184,13 @@ def _thinning(case: Case) -> dict[str, Any] | None:
             "note": "yoked thinning prism shows before each eye and cancels in the net"}
 
 
-def _vertical_words(value: float) -> str:
+def vertical_words(value: float) -> str:
+    """A net vertical prism in words: "2.75 base up before the right eye" ("none" under
+    0.005 prism dioptre)."""
     if abs(value) < 0.005:
-        return "no vertical imbalance"
+        return "none"
     eye = "right" if value > 0 else "left"
-    return f"{abs(value):.2f} base up before the {eye} eye"
+    return f"{fixed(abs(value))} base up before the {eye} eye"
 
 
 def _summary(section: dict[str, Any], threshold: float) -> list[str]:
@@ -187,23 +198,30 @@ def _summary(section: dict[str, Any], threshold: float) -> list[str]:
     reading = geometry["reading_point"]
     lines = ["Reading zone",
              f"  reading point ({geometry['rule'].replace('_', ' ')}): "
-             f"R {reading['right']['in_mm']:.1f} in, {reading['right']['up_mm']:.1f} up; "
-             f"L {reading['left']['in_mm']:.1f} in, {reading['left']['up_mm']:.1f} up"
+             f"R {fixed(reading['right']['in_mm'], 1)} in, "
+             f"{fixed(reading['right']['up_mm'], 1)} up; "
+             f"L {fixed(reading['left']['in_mm'], 1)} in, {fixed(reading['left']['up_mm'], 1)} up"
              + ("  (fitting assumed: PD 32/32 mm)" if geometry["fitting_assumed"] else "")]
-    distance = section["at_distance"]["vertical_base_up_right"]
-    near = section["at_reading_point"]["vertical_base_up_right"]
-    lines.append(f"  at distance: {_vertical_words(distance)}; "
-                 f"at the reading point: {_vertical_words(near)}")
+    distance, near = section["at_distance"], section["at_reading_point"]
+    lines.append(f"  induced imbalance at distance: "
+                 f"{vertical_words(distance['induced_vertical_base_up_right'])}; "
+                 f"at the reading point: {near['in_words']}")
+    prescribed = section["prescribed_net"]["vertical_base_up_right"]
+    if abs(prescribed) >= 0.005:
+        lines.append(f"  prescribed vertical prism (kept, not an imbalance): "
+                     f"{vertical_words(prescribed)}; totals at distance "
+                     f"{vertical_words(distance['vertical_base_up_right'])}, at the reading "
+                     f"point {vertical_words(near['vertical_base_up_right'])}")
     drop = section["threshold_drop_mm"]
     if drop is None:
-        lines.append(f"  the vertical imbalance stays under {threshold:.2f} down to "
-                     f"{section['map']['drop_mm'][-1]:.0f} mm")
+        lines.append(f"  the induced vertical imbalance stays under {fixed(threshold)} down "
+                     f"to {fixed(section['map']['drop_mm'][-1], 0)} mm")
     elif drop == 0:
-        lines.append(f"  the vertical imbalance is {threshold:.2f} (rule of thumb) or more "
-                     "already in the primary position")
+        lines.append(f"  the induced vertical imbalance is {fixed(threshold)} (rule of thumb) "
+                     "or more already in the primary position")
     else:
-        lines.append(f"  the vertical imbalance reaches {threshold:.2f} (rule of thumb) "
-                     f"{drop:.1f} mm below the primary position")
+        lines.append(f"  the induced vertical imbalance reaches {fixed(threshold)} (rule of "
+                     f"thumb) {fixed(drop, 1)} mm below the primary position")
     for eye in EYES:
         jump = section["image_jump"][eye]
         if jump:

@@ -21,15 +21,20 @@ class LensSampler:
         self._sign = nasal_sign(eye)
         thinning = lens.progressive.thinning_prism_base_down if (
             lens.progressive is not None and lens.add) else 0.0
-        self._base_in = lens.prism.base_in
-        self._base_up = lens.prism.base_up - thinning
+        self.prescribed = lens.prism
+        self._thinning = thinning
 
     def at(self, in_mm: float, up_mm: float) -> tuple[float, float, str]:
         """(base_in, base_up, zone) where the line of sight crosses the lens at the point."""
+        base_in, base_up, zone = self.unprescribed_at(in_mm, up_mm)
+        return base_in + self.prescribed.base_in, base_up + self.prescribed.base_up, zone
+
+    def unprescribed_at(self, in_mm: float, up_mm: float) -> tuple[float, float, str]:
+        """``at`` without the prescribed prism: everything else the eye meets there."""
         lens = self._lens
         x, y = self._sign * in_mm / 10.0, up_mm / 10.0
-        base_in = self._base_in - self._sign * (self._xx * x + self._xy * y)
-        base_up = self._base_up - (self._xy * x + self._yy * y)
+        base_in = -self._sign * (self._xx * x + self._xy * y)
+        base_up = -self._thinning - (self._xy * x + self._yy * y)
         zone = "distance"
         segment = lens.segment
         if (segment is not None and lens.add and up_mm <= segment.top_mm

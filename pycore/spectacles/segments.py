@@ -5,11 +5,11 @@ Millimetres. ``below_top_mm`` is measured down from the segment's top line,
 ``across_mm`` sideways from the vertical line through the segment's optical
 centre (either way: outlines are symmetric).
 
-The usual optical-centre rules (common practice, shared/domain-sources.md,
-"Remedies"): a round segment has its optical centre at its geometric centre,
-half the diameter below the top (R22: 11 mm); a flat-top about 5 mm below the
-top (stated for D28, used here for every width); a straight-across segment on
-its dividing line. The case may override the optical centre (a compensated or
+The usual optical-centre rules (common practice, docs/sources.md): a round
+segment has its optical centre at its geometric centre, half the diameter below
+the top (R22: 11 mm); a flat-top about 5 mm below the top (stated for D28, used
+here for every width); a straight-across segment on its dividing line. The case
+may override the optical centre (a compensated or
 prism-controlled segment); the outline stays where the shape puts it.
 """
 
@@ -127,5 +127,5 @@ class SegmentOutline:
 def image_jump(add: float, optical_centre_below_top_mm: float) -> float:
     """Prism (prism dioptres) met on crossing into the segment at its top line:
     add x (distance from the top to the segment optical centre, cm). With the centre
-    below the top and a plus add it is base down (shared/domain-sources.md)."""
+    below the top and a plus add it is base down (docs/sources.md)."""
     return add * optical_centre_below_top_mm / 10.0

@@ -317,11 +317,13 @@ def test_apply_near_only_remedy_then_back(zpage):
     open_case(page, BIFOCAL)
     held = address_case(page)
     seq = result_seq(page)
-    page.click("#zcard-near_prism_split .zapply")
+    # Near-only spectacles centred for near need no split prism (it is not offered), so
+    # the near-only remedy to apply is the separate reading spectacles.
+    page.click("#zcard-reading_spectacles .zapply")
     wait_result(page, after=seq)
     finished = address_case(page)
     assert "segment" not in finished["right"] and finished["points"] == ["near"]
-    assert_figures_match(page, cli_apply("near_prism_split", held, "--evaluate"))
+    assert_figures_match(page, cli_apply("reading_spectacles", held, "--evaluate"))
     seq = result_seq(page)
     page.click("#zone-undo")
     wait_result(page, after=seq)

@@ -22,12 +22,16 @@ dioptres, and any prescribed prism), and optionally the lens to centre-of-
 rotation distance (centre_of_rotation_mm, default 27) and the points of the
 lenses the eyes used ("points", mm from each reference point).
 
-The tool gives the deviation at the eye (measured / (1 - d F); Scattergood,
-Brown & Guyton 1983) and why it differs: plus lenses make the measurement
-smaller, minus lenses larger, and only the lens before the non-fixating eye
-counts. It also gives the prism the spectacles themselves put before the eyes
-at the points used, and cautions about stacking loose prisms (Thompson &
-Guyton 1983). An aid to clinical judgement, which belongs to licensed
+The tool gives the eye's rotation behind the lens, u = (measured + P) /
+(1 - d F) with P the prism prescribed before that eye (measured =
+u(1 - d F) - P, derived with Prentice's rule), and, labelled separately,
+the deviation the spectacles leave uncorrected, measured / (1 - d F). It
+says why they differ: plus lenses make the measurement smaller, minus
+lenses larger, and only the lens before the non-fixating eye counts; the
+line of sight crosses the lens d u from the straight-ahead point. It also
+gives the prism the spectacles themselves put before the eyes at the points
+used, and cautions about stacking loose prisms (sources: docs/sources.md).
+An aid to clinical judgement, which belongs to licensed
 practitioners.
 """
 

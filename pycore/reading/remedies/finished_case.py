@@ -4,12 +4,16 @@ the record of one remedy (``Remedy``) that the remedy modules fill in.
 
 Every remedy's ``applied_case`` is built here and read back through the same
 strict reader as any other case, so evaluating it gives the finished figures.
+
+Prescribed prism is the wearer's correction and no remedy changes it: the
+imbalance a remedy corrects is the induced part (total net minus the net of the
+original case's prescribed prism), and a finished case's induced figures are
+measured from the original's prescribed prism too.
 """
 
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -18,9 +22,11 @@ from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye
 from pycore.optics.power import Prescription
 from pycore.optics.prism import Prism
-from pycore.reading.imbalance_map import NetSampler
+from pycore.reading.imbalance_map import NetSampler, prescribed_net
 from pycore.reading.options import SECTION, ReadingZoneOptions
 from pycore.reading.reading_point import ReadingGeometry, reading_geometry
+from pycore.rounding import half_up
+from pycore.spectacles.binocular import NetPrism
 
 _PRESCRIPTION_KEYS = ("rx", "sphere", "cylinder", "axis")
 _NEAR_DESIGN_KEYS = ("add", "segment", "progressive", "slab_off")
@@ -28,21 +34,36 @@ _NEAR_DESIGN_KEYS = ("add", "segment", "progressive", "slab_off")
 
 @dataclass(frozen=True)
 class Figures:
-    """Net prism (prism dioptres) at distance and at the reading point of one case."""
+    """Net prism (prism dioptres) at distance and at the reading point of one case: the
+    totals, and the net of the prescribed prism their induced parts are measured from."""
 
     distance_vertical: float
     distance_horizontal: float
     near_vertical: float
     near_horizontal: float
     geometry: ReadingGeometry
+    prescribed: NetPrism = field(default_factory=lambda: NetPrism(0.0, 0.0))
 
     @classmethod
-    def of(cls, case: Case) -> Figures:
+    def of(cls, case: Case, prescribed: NetPrism | None = None) -> Figures:
+        """The figures of ``case``; ``prescribed`` (default the case's own) is the net of
+        the prescribed prism the induced parts are measured from."""
         geometry = reading_geometry(case)
-        sampler = NetSampler(case, geometry)
+        base = prescribed if prescribed is not None else prescribed_net(case)
+        sampler = NetSampler(case, geometry, base)
         distance, near = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
         return cls(distance.vertical, distance.horizontal, near.vertical, near.horizontal,
-                   geometry)
+                   geometry, base)
+
+    @property
+    def distance_induced(self) -> float:
+        """Induced vertical imbalance at distance (total minus prescribed net)."""
+        return self.distance_vertical - self.prescribed.vertical_base_up_right
+
+    @property
+    def near_induced(self) -> float:
+        """Induced vertical imbalance at the reading point (total minus prescribed net)."""
+        return self.near_vertical - self.prescribed.vertical_base_up_right
 
 
 def copy_document(case: Case) -> dict[str, Any]:
@@ -144,6 +165,8 @@ class Remedy:
     changes: list[str] = field(default_factory=list)
     details: dict[str, Any] = field(default_factory=dict)
     warnings: list[str] = field(default_factory=list)
+    order_lines: list[str] = field(default_factory=list)
+    centring: str = "as ordered: optical centres at the distance visual points"
     applied: dict[str, Any] | None = None
     figures: Figures | None = None
     distance_from: str = "finished case"
@@ -153,19 +176,23 @@ class Remedy:
             "id": self.id, "name": self.name, "available": self.available,
             "why_not": self.why_not, "summary": self.summary, "changes": self.changes,
             "details": self.details, "warnings": self.warnings,
+            "order_lines": self.order_lines if self.available else [],
+            "centring": self.centring,
             "distance": None, "near": None, "within_threshold": None,
             "applied_case": self.applied if self.available else None,
         }
         if self.available and self.figures is not None:
             f = self.figures
             result["distance"] = {"vertical_base_up_right": f.distance_vertical,
+                                  "induced_vertical_base_up_right": f.distance_induced,
                                   "horizontal_base_in": f.distance_horizontal,
                                   "from": self.distance_from}
             result["near"] = {"vertical_base_up_right": f.near_vertical,
+                              "induced_vertical_base_up_right": f.near_induced,
                               "horizontal_base_in": f.near_horizontal,
                               "from": "finished case"}
-            result["within_threshold"] = {"distance": abs(f.distance_vertical) < threshold,
-                                          "near": abs(f.near_vertical) < threshold}
+            result["within_threshold"] = {"distance": abs(f.distance_induced) < threshold,
+                                          "near": abs(f.near_induced) < threshold}
         return result
 
     def refuse(self, reason: str) -> Remedy:
@@ -183,25 +210,33 @@ class Baseline:
 
     @property
     def near(self) -> float:
-        return self.figures.near_vertical
+        """The induced vertical imbalance at the reading point: what a remedy corrects."""
+        return self.figures.near_induced
+
+    @property
+    def distance(self) -> float:
+        """The induced vertical imbalance at distance."""
+        return self.figures.distance_induced
 
 
 def round_to_step(value: float, step: float) -> float:
-    """``value`` to the nearest multiple of ``step`` (halves away from zero)."""
-    return math.copysign(math.floor(abs(value) / step + 0.5) * step, value)
+    """``value`` to the nearest multiple of ``step`` (halves away from zero, the
+    laboratory's way; see pycore.rounding)."""
+    return half_up(value, step)
 
 
 def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
                   distance_from_original: bool = False) -> Remedy:
     try:
         case = finished(document)
-        figures = Figures.of(case)
+        figures = Figures.of(case, baseline.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:
         base = baseline.figures
         figures = Figures(base.distance_vertical, base.distance_horizontal,
-                          figures.near_vertical, figures.near_horizontal, figures.geometry)
+                          figures.near_vertical, figures.near_horizontal, figures.geometry,
+                          base.prescribed)
         remedy.distance_from = "the distance spectacles, unchanged"
     remedy.applied, remedy.figures = document, figures
     return remedy

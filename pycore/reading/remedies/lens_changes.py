@@ -1,25 +1,29 @@
 """Remedies that change the spectacles themselves: slab-off and reverse slab,
-dissimilar or compensating segments, and lowered distance optical centres.
+dissimilar segments, and lowered distance optical centres.
 
-Facts of the trade used (shared/domain-sources.md, "Remedies"): slab-off about
-1.5 to 6 prism dioptres (common practice); the conventional kind base up on the
-lens with the most minus / least plus in the vertical meridian, a reverse slab
-base down on the most plus lens; how much to correct is a clinical decision
-(many correct two-thirds to all: common practice); grinding steps often 0.5
-prism dioptre (from memory). Dissimilar round segments: diameter difference
-(mm) = 20 x imbalance / add (common practice). Lowering both distance optical
-centres by h leaves dF (r - h)/10 at the reading level and makes dF h/10 at
-distance (derived from Prentice's rule).
+Each corrects the induced vertical imbalance at the reading point (the total
+minus the net of the prescribed prism, which no remedy touches). Facts of the
+trade used, with their sources in docs/sources.md: slab-off about 1.5 to 6 prism
+dioptres (common practice); the conventional kind base up on the lens with the
+most minus / least plus in the vertical meridian, a reverse slab base down on the
+most plus lens; how much to correct is a clinical decision (many correct
+two-thirds to all: common practice); grinding steps often 0.5 prism dioptre
+(from memory). The slab line lies below the distance visual point so that
+nothing above it changes: at the segment top on a bifocal, else halfway from the
+primary position to the reading point (common practice). Dissimilar segments
+are chosen only from segments that are made (pycore.spectacles.segments, common practice).
+Lowering both distance optical centres by h leaves dF (r - h)/10 at the reading
+level and makes dF h/10 at distance (derived from Prentice's rule).
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import Any
 
 from pycore.optics.eyes import EYES, Eye, other
 from pycore.optics.prentice import induced_prism
-from pycore.reading.imbalance_map import NetSampler, threshold_drop_mm
 from pycore.reading.remedies.finished_case import (
     Baseline,
     Remedy,
@@ -29,22 +33,35 @@ from pycore.reading.remedies.finished_case import (
     set_prism,
     with_figures,
 )
+from pycore.rounding import fixed, half_up
 from pycore.spectacles.gaze import LensPoint
-from pycore.spectacles.lens import SLAB_OFF_LIMIT
-from pycore.spectacles.segments import image_jump
+from pycore.spectacles.lens import SLAB_OFF_LIMIT, Lens
+from pycore.spectacles.segments import SegmentOutline, image_jump
 
 SLAB_OFF_USUAL = (1.5, 6.0)  # prism dioptres, common practice
-ROUND_SEGMENT_SIZES_MM = (20.0, 45.0)  # from memory: round segments commonly made
 LOWERING_LIMIT_MM = 10.0
+LINE_STEP_MM = 0.5
+"""Slab lines and segment centres are given to the half millimetre (rounded half up)."""
+_LETTER = {"right": "R", "left": "L"}
+
+MADE_SEGMENTS: dict[str, tuple[float | None, ...]] = {
+    "round": (22.0, 24.0, 25.0, 28.0, 30.0, 38.0, 40.0),
+    "flat_top": (25.0, 28.0, 35.0, 40.0),
+    "straight_across": (None,),
+}
+"""Segments the dissimilar-segment remedy chooses from (sizes in mm: round diameters,
+flat-top widths; common practice, docs/sources.md). Their optical centres follow the
+usual rules of pycore.spectacles.segments."""
 
 
 def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
-    """Conventional slab-off (base up) or reverse slab (base down) on the lens it belongs."""
+    """Conventional slab-off (base up) or reverse slab (base down) on the lens it belongs,
+    for the induced imbalance at the reading point."""
     name = "Reverse slab" if reverse else "Slab-off"
     remedy = Remedy("reverse_slab" if reverse else "slab_off", name)
     case, options = base.case, base.options
     if abs(base.near) < 1e-9:
-        return remedy.refuse("There is no vertical imbalance at the reading point.")
+        return remedy.refuse("There is no induced vertical imbalance at the reading point.")
     # Net base up before the right eye is cancelled by base up before the left or base
     # down before the right.
     needs_base_up: Eye = "left" if base.near > 0 else "right"
@@ -63,12 +80,16 @@ def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
         "usual_lens_by_vertical_power": trade_eye if powers["right"] != powers["left"] else None,
     }
     if rounded == 0:
-        return remedy.refuse(f"{raw:.2f} prism dioptres rounds to nothing at the "
+        return remedy.refuse(f"{fixed(raw)} prism dioptres rounds to nothing at the "
                              f"{options.lab_step:g} laboratory step.")
     if rounded > SLAB_OFF_LIMIT:
-        return remedy.refuse(f"{rounded:.2f} prism dioptres is beyond what the tool accepts "
-                             f"for a slab-off ({SLAB_OFF_LIMIT:g}).")
-    line, where = _slab_line(base, eye, rounded)
+        return remedy.refuse(f"{fixed(rounded)} prism dioptres is beyond what the tool "
+                             f"accepts for a slab-off ({SLAB_OFF_LIMIT:g}).")
+    placed = slab_line(base, eye)
+    if placed is None:
+        return remedy.refuse("The reading point is not below the distance visual point, so "
+                             "no slab line can lie between them.")
+    line, where = placed
     lens = case.lens(eye)
     existing = lens.slab_off.base_up if lens.slab_off is not None else 0.0
     amount = existing + sign * rounded
@@ -76,17 +97,22 @@ def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
     document = copy_document(case)
     eye_document(document, eye)["slab_off"] = {"base_up": amount, "line_mm": line}
     kind = "reverse slab" if reverse else "slab-off"
-    remedy.summary = (f"{kind.capitalize()} on the {eye} lens: {rounded:.2f} base "
-                      f"{'down' if reverse else 'up'} below a line at {line:.1f} mm "
-                      f"({raw:.2f} raw, rounded to {options.lab_step:g} steps).")
+    way = "down" if reverse else "up"
+    remedy.summary = (f"{kind.capitalize()} on the {eye} lens: {fixed(rounded)} base {way} "
+                      f"below a line {_below_words(line)} ({fixed(raw)} raw, rounded to "
+                      f"{options.lab_step:g} steps).")
     remedy.changes = [
-        f"The {eye} lens gets {rounded:.2f} prism dioptres base {'down' if reverse else 'up'} "
-        f"below the {kind} line, {where}.",
-        "Above the line nothing changes; a faint line shows across the lens.",
+        f"The {eye} lens gets {fixed(rounded)} prism dioptres base {way} below the {kind} "
+        f"line, {where}.",
+        "Above the line nothing changes, the distance visual point included; a faint line "
+        "shows across the lens.",
+        "The prescribed prism stays as prescribed.",
     ]
+    remedy.order_lines = [f"{_LETTER[eye]}: {kind} {fixed(rounded)} base {way}, line "
+                          f"{_line_words(lens, line, where)}"]
     low, high = SLAB_OFF_USUAL
     if not low <= rounded <= high:
-        remedy.warnings.append(f"{rounded:.2f} prism dioptres is outside the usual "
+        remedy.warnings.append(f"{fixed(rounded)} prism dioptres is outside the usual "
                                f"{low:g}-{high:g} range for a {kind} (common practice).")
     if powers["right"] != powers["left"] and trade_eye != eye:
         remedy.warnings.append(
@@ -95,94 +121,234 @@ def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
             f"the adds turn the imbalance the other way: the {eye} lens is the one that "
             "corrects it.")
     if existing:
-        remedy.warnings.append(f"The {eye} lens already had {existing:.2f} of slab-off; the "
-                               "finished case carries the total.")
+        remedy.warnings.append(f"The {eye} lens already had {fixed(existing)} of slab-off; "
+                               "the finished case carries the total.")
     return with_figures(remedy, document, base)
 
 
-def _slab_line(base: Baseline, eye: Eye, amount: float) -> tuple[float, str]:
-    """Where the slab line goes on ``eye``'s lens (mm from its reference point)."""
+SEGMENT_TOP_RULE = "at the segment top (common practice)"
+HALFWAY_RULE = "halfway from the primary position to the reading point (common practice)"
+
+
+def slab_line(base: Baseline, eye: Eye) -> tuple[float, str] | None:
+    """Where the slab line goes on ``eye``'s lens (mm from its reference point) and the
+    rule that put it there, always below the distance visual point and at or above the
+    reading point; None when the reading point is not below the distance visual point."""
     case, geometry = base.case, base.figures.geometry
     lens = case.lens(eye)
+    distance_up = geometry.coords(eye, 0.0)[1]
     reading_up = geometry.coords(eye, geometry.reading_drop_mm)[1]
-    if lens.segment is not None and lens.add and reading_up <= lens.segment.top_mm:
-        return lens.segment.top_mm, "at the segment top (common practice)"
-    # No segment line to follow: put it where the imbalance reaches half the correction,
-    # so that neither side of the line is left with more than half of it.
-    drop = threshold_drop_mm(NetSampler(case, geometry), amount / 2.0,
-                             geometry.reading_drop_mm)
-    if drop is None:
-        drop = geometry.reading_drop_mm / 2.0
-    return (geometry.coords(eye, drop)[1],
-            "where the imbalance down the reading path reaches half the correction")
+    if reading_up >= distance_up:
+        return None
+    segment = lens.segment
+    if segment is not None and lens.add and reading_up <= segment.top_mm < distance_up:
+        return segment.top_mm, SEGMENT_TOP_RULE
+    halfway = (distance_up + reading_up) / 2.0
+    line = half_up(halfway, LINE_STEP_MM)
+    if not reading_up <= line < distance_up:
+        line = halfway
+    return line, HALFWAY_RULE
+
+
+def _below_words(line_mm: float) -> str:
+    if line_mm == 0:
+        return "at the distance reference point"
+    way = "below" if line_mm < 0 else "above"
+    return f"{fixed(abs(line_mm), 1)} mm {way} the distance reference point"
+
+
+def _line_words(lens: Lens, line_mm: float, rule: str) -> str:
+    place = _below_words(line_mm)
+    if lens.progressive is not None:
+        below_cross = lens.progressive.fitting_cross_up_mm - line_mm
+        place = (f"{place} (the prism reference point; {fixed(below_cross, 1)} mm below the "
+                 "fitting cross)")
+    if rule == SEGMENT_TOP_RULE:
+        return f"at the segment top ({place})"
+    return f"{place}, {rule}"
+
+
+# --------------------------------------------------------------------------- segments
+
+
+@dataclass(frozen=True)
+class MadeSegment:
+    """A segment that is made: its shape, size (mm; None for straight-across) and where its
+    optical centre sits below its top by the usual rule (mm)."""
+
+    shape: str
+    size_mm: float | None
+
+    @property
+    def outline(self) -> SegmentOutline:
+        return SegmentOutline(self.shape, self.size_mm)  # type: ignore[arg-type]
+
+    @property
+    def centre_below_top_mm(self) -> float:
+        return self.outline.usual_optical_centre_below_top_mm
+
+    def words(self) -> str:
+        shape = self.shape.replace("_", "-")
+        size = f" {self.size_mm:g} mm" if self.size_mm is not None else ""
+        return f"{shape}{size}"
+
+    def document(self, top_mm: float) -> dict[str, Any]:
+        """The case's ``segment`` for this segment at ``top_mm``."""
+        found: dict[str, Any] = {"top_mm": top_mm, "shape": self.shape,
+                                 "optical_centre_below_top_mm": self.centre_below_top_mm}
+        key = self.outline.size_key
+        if key is not None:
+            found[key] = self.size_mm
+        return found
+
+
+def made_segments() -> list[MadeSegment]:
+    """Every segment the remedy chooses from (pycore.spectacles.segments.MADE_SEGMENTS)."""
+    return [MadeSegment(shape, size) for shape, sizes in MADE_SEGMENTS.items()
+            for size in sizes]
+
+
+def _current(lens: Lens) -> MadeSegment | None:
+    segment = lens.segment
+    assert segment is not None
+    outline = segment.outline
+    if outline is None:
+        return None
+    made = MadeSegment(outline.shape, outline.size_mm)
+    if abs(made.centre_below_top_mm - segment.optical_centre_below_top_mm) > 1e-9:
+        return None
+    return made
 
 
 def dissimilar_segments(base: Baseline) -> Remedy:
-    remedy = Remedy("dissimilar_segments", "Dissimilar or compensating segments")
-    case = base.case
-    segments = {eye: case.lens(eye).segment for eye in EYES}
-    if any(segments[eye] is None or not case.lens(eye).add for eye in EYES):
+    """Segments whose optical centres sit at different depths below equal tops, chosen from
+    made segments, so that their own prism cancels the induced imbalance at the reading
+    point (lowering a segment's centre by d changes that eye's base up by -add d / 10,
+    Prentice's rule)."""
+    remedy = Remedy("dissimilar_segments", "Dissimilar segments")
+    case, geometry = base.case, base.figures.geometry
+    lenses = {eye: case.lens(eye) for eye in EYES}
+    if any(lenses[eye].segment is None or not lenses[eye].add for eye in EYES):
         return remedy.refuse("Both lenses need bifocal segments for this remedy.")
     if abs(base.near) < 1e-9:
-        return remedy.refuse("There is no vertical imbalance at the reading point.")
-    options = []
+        return remedy.refuse("There is no induced vertical imbalance at the reading point.")
+    reading = {eye: geometry.coords(eye, geometry.reading_drop_mm) for eye in EYES}
     for eye in EYES:
-        segment = segments[eye]
+        segment = lenses[eye].segment
         assert segment is not None
-        add = case.lens(eye).add
-        # Lowering a segment's optical centre by d changes that eye's base up by
-        # -add d / 10: the right must go down by 10 V / add, the left up by as much.
-        move = (10.0 * base.near / add) * (1.0 if eye == "right" else -1.0)
-        below = segment.optical_centre_below_top_mm + move
-        outline = segment.outline
-        option: dict[str, Any] = {"eye": eye, "optical_centre_move_down_mm": move}
-        if outline is not None and outline.shape == "round":
-            diameter = float(round(2.0 * below))
-            low, high = ROUND_SEGMENT_SIZES_MM
-            option.update({"kind": "round segment diameter", "from_mm": outline.size_mm,
-                           "to_mm": diameter, "diameter_change_mm": 2.0 * move,
-                           "feasible": low <= diameter <= high})
-            option["segment"] = {"shape": "round", "diameter_mm": diameter,
-                                 "optical_centre_below_top_mm": diameter / 2.0}
-        else:
-            placed = round(below * 2.0) / 2.0
-            option.update({"kind": "segment optical centre placed by the laboratory",
-                           "from_mm": segment.optical_centre_below_top_mm, "to_mm": placed,
-                           "feasible": 0.0 <= placed <= 25.0})
-            option["segment"] = {"optical_centre_below_top_mm": placed}
-        option["image_jump"] = abs(image_jump(add, option["segment"][
-            "optical_centre_below_top_mm"]))
-        options.append(option)
-    feasible = [o for o in options if o["feasible"]]
-    remedy.details = {"options": options}
-    if not feasible:
-        return remedy.refuse("Neither segment can be changed enough within usual sizes "
-                             f"(round {ROUND_SEGMENT_SIZES_MM[0]:g}-"
-                             f"{ROUND_SEGMENT_SIZES_MM[1]:g} mm, from memory).")
-    chosen = min(feasible, key=lambda o: abs(o["optical_centre_move_down_mm"]))
-    eye = chosen["eye"]
+        if not segment.covers(LensPoint(*reading[eye])):
+            return remedy.refuse(f"The reading point is not within the {eye} segment, so its "
+                                 "segment's prism does not reach it.")
+
+    def fits(eye: Eye, made: MadeSegment) -> bool:
+        segment = lenses[eye].segment
+        assert segment is not None
+        in_mm, up_mm = reading[eye]
+        return made.outline.contains(in_mm - segment.optical_centre_in_mm,
+                                     segment.top_mm - up_mm)
+
+    def change(eye: Eye, made: MadeSegment | None) -> float:
+        """Change of the net vertical at the reading point with ``made`` before ``eye``."""
+        segment = lenses[eye].segment
+        assert segment is not None
+        if made is None:
+            return 0.0
+        move = made.centre_below_top_mm - segment.optical_centre_below_top_mm
+        per_eye = -lenses[eye].add * move / 10.0
+        return per_eye if eye == "right" else -per_eye
+
+    current = {eye: _current(lenses[eye]) for eye in EYES}
+    choices = {eye: [None, *[m for m in made_segments() if m != current[eye] and fits(eye, m)]]
+               for eye in EYES}
+    best: tuple[Any, ...] | None = None
+    for right in choices["right"]:
+        for left in choices["left"]:
+            if right is None and left is None:
+                continue
+            residual = base.near + change("right", right) + change("left", left)
+            changed = int(right is not None) + int(left is not None)
+            pair: dict[Eye, MadeSegment | None] = {"right": right, "left": left}
+            jumps = sum(abs(image_jump(lenses[e].add, made.centre_below_top_mm))
+                        for e in EYES if (made := pair[e]) is not None)
+            key = (half_up(abs(residual), 0.001), changed, jumps)
+            if best is None or key < best[0]:
+                best = (key, right, left, residual)
+    remedy.details = {
+        "made_segments": {shape: list(sizes) for shape, sizes in MADE_SEGMENTS.items()},
+        "made_segments_source": "common practice",
+        "optical_centre_rules": {m.shape: m.outline.rule for m in made_segments()},
+    }
+    if best is None or abs(best[3]) >= abs(base.near) - 1e-9:
+        return remedy.refuse("No pair of made segments covering the reading point reduces "
+                             "the induced imbalance.")
+    _key, right, left, residual = best
+    chosen: dict[Eye, MadeSegment | None] = {"right": right, "left": left}
     document = copy_document(case)
-    eye_document(document, eye)["segment"].update(chosen["segment"])
-    remedy.details["chosen"] = eye
-    if chosen["kind"] == "round segment diameter":
-        remedy.summary = (f"A {chosen['to_mm']:.0f} mm round segment before the {eye} eye "
-                          f"instead of {chosen['from_mm']:.0f} mm.")
-    else:
-        remedy.summary = (f"The {eye} segment's optical centre placed "
-                          f"{chosen['to_mm']:.1f} mm below its top instead of "
-                          f"{chosen['from_mm']:.1f} mm.")
+    entries = []
+    for eye in EYES:
+        segment = lenses[eye].segment
+        assert segment is not None
+        made = chosen[eye]
+        below = made.centre_below_top_mm if made is not None else \
+            segment.optical_centre_below_top_mm
+        entry: dict[str, Any] = {
+            "eye": eye, "changed": made is not None,
+            "kind": made.words() if made is not None else "unchanged",
+            "from_mm": segment.optical_centre_below_top_mm, "to_mm": below,
+            "optical_centre_move_down_mm": below - segment.optical_centre_below_top_mm,
+            "feasible": True,
+            "image_jump": abs(image_jump(lenses[eye].add, below)),
+        }
+        entries.append(entry)
+        if made is not None:
+            eye_doc = eye_document(document, eye)
+            kept = {k: v for k, v in eye_doc["segment"].items() if k == "optical_centre_in_mm"}
+            eye_doc["segment"] = {**made.document(segment.top_mm), **kept}
+    changed_eyes = [eye for eye in EYES if chosen[eye] is not None]
+    remedy.details.update({"options": entries,
+                           "chosen": changed_eyes[0] if len(changed_eyes) == 1 else "both",
+                           "residual_near": residual})
+    remedy.order_lines = [_segment_order_line(eye, lenses[eye], chosen[eye]) for eye in EYES]
+    said = " and ".join(f"a {made.words()} segment before the {e} eye"
+                        for e in changed_eyes if (made := chosen[e]) is not None)
+    remedy.summary = (f"Equal segment tops with {said}: the segment optical centres sit at "
+                      "different depths, so the segments' own prism cancels the induced "
+                      f"imbalance (about {fixed(abs(residual))} left).")
     remedy.changes = [
         "The segment's own prism changes by the same amount everywhere in the segment, "
         "so the correction holds wherever the eyes read through both segments.",
-        f"The image jump at the {eye} segment top becomes {chosen['image_jump']:.2f} prism "
-        "dioptres.",
+        *[f"The image jump at the {e['eye']} segment top becomes "
+          f"{fixed(e['image_jump'])} prism dioptres." for e in entries if e["changed"]],
+        "Chosen only from made segments: round "
+        f"{'/'.join(f'{v:g}' for v in MADE_SEGMENTS['round'])} mm, flat-top "
+        f"{'/'.join(f'{v:g}' for v in MADE_SEGMENTS['flat_top'])} mm, straight-across "
+        "(common practice).",
     ]
-    if chosen["kind"] == "round segment diameter":
-        remedy.changes.append("Diameter difference = 20 x imbalance / add (common practice).")
     return with_figures(remedy, document, base)
 
 
+def _segment_order_line(eye: Eye, lens: Lens, made: MadeSegment | None) -> str:
+    segment = lens.segment
+    assert segment is not None
+    top = _below_words(segment.top_mm)
+    if made is None:
+        current = _current(lens)
+        what = current.words() if current is not None else "segment"
+        return (f"{_LETTER[eye]}: {what} segment as ordered, top {top}, optical centre "
+                f"{fixed(segment.optical_centre_below_top_mm, 1)} mm below its top")
+    if made.shape == "straight_across":
+        centre = "on the dividing line"
+    elif made.shape == "round":
+        centre = (f"at its centre, {fixed(made.centre_below_top_mm, 1)} mm below its top "
+                  "(common practice)")
+    else:
+        centre = f"about {fixed(made.centre_below_top_mm, 1)} mm below its top (common practice)"
+    return f"{_LETTER[eye]}: {made.words()} segment, top {top}, optical centre {centre}"
+
+
 def lower_centres(base: Baseline) -> Remedy:
+    """Both distance optical centres lowered (or raised) by the same amount: the induced
+    imbalance moves between the reading point and distance."""
     remedy = Remedy("lower_centres", "Lowered distance optical centres")
     case, options = base.case, base.options
     if any(case.lens(eye).progressive is not None for eye in EYES):
@@ -194,12 +360,13 @@ def lower_centres(base: Baseline) -> Remedy:
     if abs(slope) < 1e-9:
         return remedy.refuse("The lenses have the same vertical power, so lowering both "
                              "centres changes nothing between the eyes.")
-    distance = base.figures.distance_vertical
+    distance = base.distance
     if options.lower_centres_mm is not None:
         drop, chosen_by = options.lower_centres_mm, "as set in reading_zone.lower_centres_mm"
     else:
-        # Balance: the same size of imbalance left at distance and at the reading point.
-        drop = round(-(base.near + distance) / (2.0 * slope) * 2.0) / 2.0
+        # Balance: the same size of induced imbalance left at distance and at the reading
+        # point, to the half millimetre (rounded half up).
+        drop = half_up(-(base.near + distance) / (2.0 * slope), LINE_STEP_MM)
         drop = max(-LOWERING_LIMIT_MM, min(LOWERING_LIMIT_MM, drop))
         chosen_by = "balancing what is left at distance against the reading point"
     if drop == 0:
@@ -215,16 +382,29 @@ def lower_centres(base: Baseline) -> Remedy:
                       "vertical_change_per_mm": slope, "trade": trade,
                       "prism_by_decentration": {
                           eye: per_mm[eye].scaled(drop).as_dict(eye) for eye in EYES}}
+    remedy.centring = (f"optical centres {fixed(abs(drop), 1)} mm "
+                       f"{'below' if drop > 0 else 'above'} the distance visual points")
     way = "lowered" if drop > 0 else "raised"
-    remedy.summary = (f"Both distance optical centres {way} {abs(drop):.1f} mm: the reading "
-                      "point's imbalance falls and the same amount appears at distance.")
+    place = "below" if drop > 0 else "above"
+    remedy.summary = (f"Both distance optical centres {way} {fixed(abs(drop), 1)} mm: the "
+                      "reading point's induced imbalance falls and the same amount appears "
+                      "at distance.")
     remedy.changes = [
-        f"Each lens's optical centre sits {abs(drop):.1f} mm {'below' if drop > 0 else 'above'} "
-        "the pupil; the finished case carries it as the prism this decentration gives at "
-        "the distance reference point.",
-        f"Each mm trades {abs(slope):.2f} prism dioptres of vertical imbalance between near "
-        "and distance.",
+        f"Each lens's optical centre sits {fixed(abs(drop), 1)} mm {place} the pupil; the "
+        "finished case carries it as the prism this decentration gives at the distance "
+        "reference point, on top of the prescribed prism.",
+        f"Each mm trades {fixed(abs(slope))} prism dioptres of vertical imbalance between "
+        "near and distance.",
     ]
+    remedy.order_lines = [
+        f"{_LETTER[eye]}: optical centre {fixed(abs(drop), 1)} mm {place} the fitting "
+        f"height (the pupil centre){_prescribed_words(case.lens(eye))}" for eye in EYES]
     if case.lens("right").segment is not None or case.lens("left").segment is not None:
         remedy.changes.append("The segments stay where they are.")
     return with_figures(remedy, document, base)
+
+
+def _prescribed_words(lens: Lens) -> str:
+    if lens.prism.amount < 0.005:
+        return ""
+    return f", prescribed prism {lens.prism.in_words()} unchanged"

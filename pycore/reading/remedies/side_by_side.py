@@ -1,14 +1,17 @@
 """Remedies for a vertical imbalance at the reading point, quantified side by side.
 
 For the same case each remedy says what it changes, what it leaves at distance
-and at the reading point (net prism dioptres, signs as in the case format), and
+and at the reading point (net prism dioptres, signs as in the case format; the
+totals and their induced parts), the order lines a laboratory needs, and
 carries ``applied_case``: the case document with the remedy applied through the
 case keys, so that evaluating it gives the finished figures everywhere.
 
 The remedies themselves live in pycore.reading.remedies.lens_changes (slab-off, reverse
 slab, dissimilar segments, lowered centres) and pycore.reading.remedies.near_wear (near-only
 prism, reading spectacles, contact lenses); this module lists them side by side
-and suggests one.
+and suggests one. Every judgement (under the threshold, which to suggest) is on
+the induced imbalance: prescribed prism is the wearer's correction, and equal
+lenses with any prescribed prism need no remedy.
 """
 
 from __future__ import annotations
@@ -28,6 +31,7 @@ from pycore.reading.remedies.finished_case import (
 )
 from pycore.reading.remedies.lens_changes import dissimilar_segments, lower_centres, slab_off
 from pycore.reading.remedies.near_wear import contact_lenses, near_prism_split, reading_spectacles
+from pycore.rounding import fixed
 
 CAUTIONS = (
     "Whether to correct, and how much, is a clinical decision for the practitioner.",
@@ -46,11 +50,12 @@ _PREFERENCE = ("slab_off", "dissimilar_segments", "lower_centres", "reverse_slab
 def doing_nothing(base: Baseline) -> Remedy:
     remedy = Remedy("none", "No change")
     threshold = base.options.threshold
-    under = abs(base.near) < threshold and abs(base.figures.distance_vertical) < threshold
-    remedy.summary = (f"The vertical imbalance stays under {threshold:.2f} prism dioptre at "
-                      "distance and at the reading point." if under else
-                      f"The vertical imbalance reaches {threshold:.2f} prism dioptre or more; "
-                      "leaving it is a choice for the practitioner and the wearer.")
+    under = abs(base.near) < threshold and abs(base.distance) < threshold
+    remedy.summary = (f"The induced vertical imbalance stays under {fixed(threshold)} prism "
+                      "dioptre at distance and at the reading point." if under else
+                      f"The induced vertical imbalance reaches {fixed(threshold)} prism "
+                      "dioptre or more; leaving it is a choice for the practitioner and the "
+                      "wearer.")
     remedy.changes = ["Nothing: the spectacles as ordered."]
     remedy.details = {"under_threshold": under}
     return with_figures(remedy, copy_document(base.case), base)
@@ -75,12 +80,13 @@ def all_remedies(case: Case) -> tuple[Baseline, list[Remedy]]:
 
 
 def recommended(base: Baseline, remedies: list[Remedy]) -> str:
-    """A suggestion, not a decision: "none" when the case is already under the threshold
-    at distance and at the reading point; else the first remedy, in the order of
-    preference, that brings the reading point under it without leaving distance over it
-    (or worse than it was), preferring one with no warnings."""
+    """A suggestion, not a decision: "none" when the induced imbalance is already under
+    the threshold at distance and at the reading point; else the first remedy, in the
+    order of preference, that brings the reading point's induced imbalance under it
+    without leaving distance over it (or worse than it was), preferring one with no
+    warnings."""
     threshold = base.options.threshold
-    before = abs(base.figures.distance_vertical)
+    before = abs(base.distance)
     if abs(base.near) < threshold and before < threshold:
         return "none"
 
@@ -88,8 +94,8 @@ def recommended(base: Baseline, remedies: list[Remedy]) -> str:
         figures = remedy.figures
         if not remedy.available or figures is None:
             return False
-        distance = abs(figures.distance_vertical)
-        return abs(figures.near_vertical) < threshold and (
+        distance = abs(figures.distance_induced)
+        return abs(figures.near_induced) < threshold and (
             distance < threshold or distance <= before + 1e-9)
 
     by_id = {remedy.id: remedy for remedy in remedies}
@@ -114,7 +120,12 @@ def remedies_section(case: Case, result: dict[str, Any]) -> dict[str, Any] | Non
                              if "slab-off" not in caution or "slab" in entry["id"]]
     return {
         "threshold": threshold,
-        "before": {"distance": base.figures.distance_vertical, "near": base.near},
+        "before": {"distance": base.figures.distance_vertical,
+                   "near": base.figures.near_vertical,
+                   "induced_distance": base.distance, "induced_near": base.near},
+        "prescribed_net": {
+            "vertical_base_up_right": base.figures.prescribed.vertical_base_up_right,
+            "horizontal_base_in": base.figures.prescribed.horizontal_base_in},
         "order": list(ORDER),
         "recommended": choice,
         "options": entries,
@@ -124,16 +135,17 @@ def remedies_section(case: Case, result: dict[str, Any]) -> dict[str, Any] | Non
 
 
 def _summary(base: Baseline, entries: list[dict[str, Any]], choice: str) -> list[str]:
-    lines = [f"Remedies (vertical imbalance, threshold {base.options.threshold:.2f}; "
-             "+ = base up before the right eye)",
+    lines = [f"Remedies (induced vertical imbalance, threshold "
+             f"{fixed(base.options.threshold)}; + = base up before the right eye)",
              f"  {'':46} {'distance':>9} {'near':>9}"]
     for entry in entries:
         mark = "*" if entry["recommended"] else " "
         if entry["available"]:
-            lines.append(f" {mark}{entry['name'][:46]:46} "
-                         f"{entry['distance']['vertical_base_up_right']:+9.2f} "
-                         f"{entry['near']['vertical_base_up_right']:+9.2f}")
+            distance = fixed(entry["distance"]["induced_vertical_base_up_right"], sign=True)
+            near = fixed(entry["near"]["induced_vertical_base_up_right"], sign=True)
+            lines.append(f" {mark}{entry['name'][:46]:46} {distance:>9} {near:>9}")
             lines.append(f"     {entry['summary']}")
+            lines.extend(f"     order: {line}" for line in entry["order_lines"])
         else:
             lines.append(f" {mark}{entry['name'][:46]:46} {'-':>9} {'-':>9}  ({entry['why_not']})")
     lines.append(f"  * suggested: {choice.replace('_', ' ')}; "
