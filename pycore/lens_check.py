@@ -114,7 +114,7 @@ def _cylinder(job: Verification, row: LensRow, eye: Eye) -> dict[str, Any] | str
     verdict = _frame(job, row, eye, want_c)
     sign = -1.0 if ordered.prescription.cylinder <= 0 else 1.0
     verdict["ordered"], verdict["measured"] = sign * want_c, sign * got_c
-    words = (f"cylinder {sign * got_c:+.2f} D read against {sign * want_c:+.2f} D ordered "
+    words = (f"cylinder {_signed_d(sign * got_c)} read against {_signed_d(sign * want_c)} ordered "
              f"(in the order's cylinder sign; {_signed_d(sign * (got_c - want_c))})")
     return _judged(verdict, abs(got_c - want_c), words)
 
@@ -278,6 +278,7 @@ def _signed_d(value: float) -> str:
     return "0.00 D" if text in ("+0.00 D", "-0.00 D") else text
 
 
+
 def _frame(job: Verification, row: LensRow, eye: Eye | None, nominal: float) -> dict[str, Any]:
     table = job.settings.table
     band = row.band_for(nominal)
@@ -318,7 +319,8 @@ def _frame(job: Verification, row: LensRow, eye: Eye | None, nominal: float) -> 
 
 def _judged(verdict: dict[str, Any], value: float, words: str) -> dict[str, Any]:
     limit = verdict["limit"]
-    verdict.update({"value": value, "margin": limit - value,
+    value = round(value, 9) + 0.0
+    verdict.update({"value": value, "margin": round(limit - value, 9) + 0.0,
                     "pass": value <= limit + PASS_EPSILON})
     verdict["status"] = "pass" if verdict["pass"] else "fail"
     verdict["in_words"] = words

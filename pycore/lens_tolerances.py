@@ -110,7 +110,7 @@ class LensRow:
         short = {"dioptres": "D", "degrees": "deg", "mm": "mm"}[self.unit]
         limit = (f"{band.percent:g}% of the power" if band.percent is not None
                  else f"{band.limit:g} {short}")
-        return f"{reach}: +-{limit}"
+        return f"{reach}: ±{limit}"
 
     def as_dict(self) -> dict[str, Any]:
         return {"criterion": self.criterion, "what": LENS_CRITERIA[self.criterion],

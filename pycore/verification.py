@@ -472,7 +472,8 @@ def _not_judged(verdict: dict[str, Any], why: str) -> dict[str, Any]:
 
 
 def _reading(limit: float, value: float) -> dict[str, Any]:
-    return {"value": value, "limit": limit, "margin": limit - value,
+    value = round(value, 9) + 0.0
+    return {"value": value, "limit": limit, "margin": round(limit - value, 9) + 0.0,
             "pass": value <= limit + PASS_EPSILON}
 
 
