@@ -178,6 +178,10 @@ export function createVerifyScreen({ messenger, firstResult }) {
       const fit = doc.fitting && doc.fitting[eye];
       form.querySelector(`#vf-ord-${eye}-pd`).value = fit && fit.mono_pd_mm !== undefined ? String(fit.mono_pd_mm) : "";
       form.querySelector(`#vf-ord-${eye}-height`).value = fit && fit.height_mm !== undefined ? String(fit.height_mm) : "";
+      form.querySelector(`#vf-ord-${eye}-add`).value = typeof lens.add === "number" ? String(lens.add) : "";
+      const top = lens.segment && typeof lens.segment.top_mm === "number" ? lens.segment.top_mm : undefined;
+      form.querySelector(`#vf-ord-${eye}-seg-height`).value =
+        top !== undefined && fit && typeof fit.height_mm === "number" ? String(fit.height_mm + top) : "";
       filled.push(EYE[eye].toLowerCase());
     }
     let design = "";
@@ -194,7 +198,7 @@ export function createVerifyScreen({ messenger, firstResult }) {
     }
     note.textContent = filled.length
       ? `Copied the ${filled.join(" and ")} lens from the case${doc.name ? " “" + doc.name + "”" : ""}: ` +
-        `prescription, prism, monocular PD and height${design}.`
+        `prescription, prism, monocular PD, height, add and segment height${design}.`
       : "The case screen has no prescription yet: enter it there first, or type the order here.";
     changed();
   });
