@@ -113,7 +113,7 @@ def _cylinder(job: Verification, row: LensRow, eye: Eye) -> dict[str, Any] | str
     want_c, got_c = want[1] - want[0], got[1] - got[0]
     verdict = _frame(job, row, eye, want_c)
     sign = -1.0 if ordered.prescription.cylinder <= 0 else 1.0
-    verdict["ordered"], verdict["measured"] = sign * want_c, sign * got_c
+    verdict["ordered"], verdict["measured"] = sign * want_c + 0.0, sign * got_c + 0.0
     words = (f"cylinder {_signed_d(sign * got_c)} read against {_signed_d(sign * want_c)} ordered "
              f"(in the order's cylinder sign; {_signed_d(sign * (got_c - want_c))})")
     return _judged(verdict, abs(got_c - want_c), words)
