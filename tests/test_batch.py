@@ -247,3 +247,34 @@ def test_worker_action(tmp_path: Path) -> None:
     reply = json.loads(handle(json.dumps({"action": "batch", "payload": {
         "csv": "right..rx\n"}})))
     assert not reply["ok"] and reply["error"]["field"] == "header"
+
+
+def test_lensmeter_reading_columns_judge_the_whole_pair() -> None:
+    """A lab's day: the reading per job in columns named after the case format's keys, and
+    every verdict per job (ANSI QRG: sphere 0.13 D, add 0.12 D, segment height 1.0 mm)."""
+    header = ["name", "right.rx", "left.rx", "right.add", "left.add", "right.segment.top_mm",
+              "left.segment.top_mm", "fitting.right.mono_pd_mm", "fitting.left.mono_pd_mm",
+              "fitting.right.height_mm", "fitting.left.height_mm",
+              "verification.measured.right.rx", "verification.measured.left.rx",
+              "verification.measured.right.prism", "verification.measured.left.prism",
+              "verification.measured.right.add", "verification.measured.left.add",
+              "verification.measured.right.segment.height_mm",
+              "verification.measured.left.segment.height_mm"]
+    good = ["job ok", "-2.00 / -1.00 x 180", "-2.25 DS", "2", "2", "-4", "-4", "32", "32",
+            "22", "22", "-3.00 / +1.00 x 90", "-2.25 DS", "0", "0", "2.12", "2.00", "18",
+            "18.5"]
+    bad = ["job bad", "-2.00 / -1.00 x 180", "-2.25 DS", "2", "2", "-4", "-4", "32", "32",
+           "22", "22", "-2.00 / -1.00 x 174", "-2.50 DS", "0", "0", "2.25", "2.00", "18",
+           "19.5"]
+    text = "\n".join(",".join(row) for row in (header, good, bad)) + "\n"
+    report = run_csv_text(text, "jsonl")
+    entries = [json.loads(line) for line in report["report"].splitlines()]
+    assert [e["verification"]["result"] for e in entries] == ["pass", "fail"]
+    failed = {(v["criterion"], v["eye"]) for v in entries[1]["verification"]["verdicts"]
+              if v["status"] == "fail"}
+    # axis 6 deg on a 1.00 D cylinder (3 allowed), left sphere 0.25 off, add 0.25 off,
+    # left segment 1.5 mm high and 1.5 mm above the right
+    assert failed == {("axis", "right"), ("meridian_power", "left"), ("add", "right"),
+                      ("segment_height", "left"), ("segment_height_difference", None)}
+    csv_report = run_csv_text(text, "csv")["report"]
+    assert "meridian_power right pass" in csv_report and "axis right fail" in csv_report

@@ -1,5 +1,5 @@
 // Pair check: a finished pair (or single unmounted lenses) against a standard's
-// prism tolerances. Builds the verification document (docs/case-format.md,
+// tolerances: prism, powers, cylinder, axis, add and segment / fitting-cross positions. Builds the verification document (docs/case-format.md,
 // "## Verification") from the form and draws the core's verdicts.
 import {
   Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, fixed, inOut,
@@ -11,7 +11,8 @@ import * as store from "./store.js";
 const LENS_TYPES = [["single_vision", "Single vision"], ["multifocal", "Multifocal (segment)"], ["progressive", "Progressive"]];
 const MOUNTINGS = [["mounted", "Mounted pair"], ["unmounted", "Unmounted lenses (each judged alone)"]];
 const READINGS = [["total", "Total for the pair"], ["per_eye", "Each lens on its own"]];
-const STATUS_WORDS = { pass: "PASS", fail: "FAIL", incomplete: "INCOMPLETE", not_judged: "NOT JUDGED" };
+const STATUS_WORDS = { pass: "PASS", fail: "FAIL", incomplete: "INCOMPLETE", not_judged: "NOT JUDGED",
+  not_defined: "NOT DEFINED" };
 const EYE = { right: "Right", left: "Left" };
 
 export function createVerifyScreen({ messenger, firstResult }) {
@@ -45,6 +46,13 @@ export function createVerifyScreen({ messenger, firstResult }) {
         { key: "prism", label: "Prescribed prism", hint: "e.g. 1 BI, 0.5 BU", kind: "text", path: (e) => `ordered.${e}.prism` },
         { key: "pd", label: "Monocular PD", hint: "mm, bridge centre to PRP", path: (e) => `ordered.${e}.mono_pd_mm` },
         { key: "height", label: "PRP height", hint: "mm above the lowest point of the lens shape", path: (e) => `ordered.${e}.height_mm` },
+        { key: "add", label: "Add", hint: "D; multifocal or progressive", path: (e) => `ordered.${e}.add` },
+        { key: "seg-height", label: "Segment height", hint: "mm, segment top above the lowest point of the lens shape",
+          path: (e) => `ordered.${e}.segment.height_mm` },
+        { key: "seg-pd", label: "Segment centre across", hint: "mm from the bridge centre (near monocular PD)",
+          path: (e) => `ordered.${e}.segment.mono_pd_mm` },
+        { key: "fc-height", label: "Fitting-cross height", hint: "mm above the lowest point of the lens shape",
+          path: (e) => `ordered.${e}.fitting_cross_height_mm` },
       ]),
       el("div", { class: "fields two mounted-only" },
         field({ id: "vf-ordered-pd", label: "Ordered PD for the pair", hint: "mm; only without monocular PDs",
@@ -54,6 +62,9 @@ export function createVerifyScreen({ messenger, firstResult }) {
       el("p", { class: "hint", text: "Prism read at each lens's prism reference point (PRP) or marked centre. " +
         "Leave out what you did not measure: it is taken as ordered, and the result lists every such assumption." }),
       eyeGrid("vf-mes", "As measured", [
+        { key: "rx", label: "Lensmeter reading", hint: "at the PRP, either cylinder sign, e.g. -4.25 / +0.50 x 90", kind: "text",
+          path: (e) => `measured.${e}.rx` },
+        { key: "add", label: "Add read", hint: "D, at the near portion", path: (e) => `measured.${e}.add` },
         { key: "prism", label: "Prism found", hint: "at the PRP or marked centre, e.g. 0.25 BU 0.5 BO", kind: "text",
           path: (e) => `measured.${e}.prism` },
         { key: "pd", label: "Monocular PD", hint: "mm, bridge centre to the point read", path: (e) => `measured.${e}.mono_pd_mm` },
@@ -62,7 +73,12 @@ export function createVerifyScreen({ messenger, firstResult }) {
           path: (e) => `measured.${e}.offset.in_mm` },
         { key: "up", label: "Point read: up", hint: "mm from the specified PRP, upward; unmounted",
           path: (e) => `measured.${e}.offset.up_mm` },
-        { key: "rx", label: "Powers measured", hint: "optional, e.g. -4.25 DS", kind: "text", path: (e) => `measured.${e}.rx` },
+        { key: "seg-height", label: "Segment height", hint: "mm, segment top above the lowest point of the lens shape",
+          path: (e) => `measured.${e}.segment.height_mm` },
+        { key: "seg-pd", label: "Segment centre across", hint: "mm from the bridge centre", path: (e) => `measured.${e}.segment.mono_pd_mm` },
+        { key: "seg-tilt", label: "Segment tilt", hint: "degrees off level", path: (e) => `measured.${e}.segment.tilt_deg` },
+        { key: "fc-height", label: "Fitting-cross height", hint: "mm above the lowest point of the lens shape",
+          path: (e) => `measured.${e}.fitting_cross_height_mm` },
       ]),
       el("div", { class: "fields two mounted-only" },
         field({ id: "vf-centre-distance", label: "Distance between the centres", hint: "mm; instead of the monocular PDs",
@@ -78,11 +94,19 @@ export function createVerifyScreen({ messenger, firstResult }) {
     form, results);
 
   // Rows that only apply to mounted pairs, or only to unmounted lenses.
-  const rowInputs = (key) => [...form.querySelectorAll(`#vf-mes-row-${key}, [id^="vf-mes-"][id$="-${key}"]`)];
+  const rowInputs = (key, grid = "vf-mes") => [...form.querySelectorAll(`#${grid}-row-${key}, #${grid}-right-${key}, #${grid}-left-${key}`)];
   function applyMounting() {
     const unmounted = form.querySelector("#vf-mounting").value === "unmounted";
+    const type = form.querySelector("#vf-lens-type").value;
     for (const key of ["pd", "height"]) for (const node of rowInputs(key)) node.hidden = unmounted;
     for (const key of ["in", "up"]) for (const node of rowInputs(key)) node.hidden = !unmounted;
+    // Rows for the lens type: add (multifocal, progressive), segment, fitting cross.
+    const shown = { add: type !== "single_vision", "seg-height": type === "multifocal" && !unmounted,
+      "seg-pd": type === "multifocal" && !unmounted, "seg-tilt": type === "multifocal" && !unmounted,
+      "fc-height": type === "progressive" && !unmounted };
+    for (const [key, on] of Object.entries(shown)) {
+      for (const grid of ["vf-ord", "vf-mes"]) for (const node of rowInputs(key, grid)) node.hidden = !on;
+    }
     for (const node of form.querySelectorAll(".mounted-only")) node.hidden = unmounted;
     thinning.hidden = form.querySelector("#vf-lens-type").value !== "progressive";
     form.querySelector("#vf-reading").closest(".field").hidden = unmounted;
@@ -91,6 +115,8 @@ export function createVerifyScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- the payload
   function build() {
     const { doc, inputs, typed } = collect(form);
+    // Rows hidden for this lens type or mounting are not part of the check.
+    for (const input of form.querySelectorAll("input[data-path][hidden]")) dropPath(doc, input.dataset.path);
     const unmounted = doc.mounting === "unmounted";
     if (unmounted) {
       // Each lens given as ordered is judged; the other is left out.
@@ -103,6 +129,21 @@ export function createVerifyScreen({ messenger, firstResult }) {
     if (!unmounted) for (const eye of ["right", "left"]) doc.ordered[eye] ||= {};
     if (!doc.measured) doc.measured = {};
     return { doc, inputs, typed };
+  }
+
+  function dropPath(doc, path) {
+    const parts = path.split(".");
+    const chain = [doc];
+    for (const part of parts.slice(0, -1)) {
+      const next = chain[chain.length - 1][part];
+      if (!next || typeof next !== "object") return;
+      chain.push(next);
+    }
+    delete chain[chain.length - 1][parts[parts.length - 1]];
+    for (let i = chain.length - 1; i > 0; i--) {
+      if (Object.keys(chain[i]).length) break;
+      delete chain[i - 1][parts[i - 1]];
+    }
   }
 
   const calc = new Calculation({
@@ -137,6 +178,10 @@ export function createVerifyScreen({ messenger, firstResult }) {
       const fit = doc.fitting && doc.fitting[eye];
       form.querySelector(`#vf-ord-${eye}-pd`).value = fit && fit.mono_pd_mm !== undefined ? String(fit.mono_pd_mm) : "";
       form.querySelector(`#vf-ord-${eye}-height`).value = fit && fit.height_mm !== undefined ? String(fit.height_mm) : "";
+      form.querySelector(`#vf-ord-${eye}-add`).value = typeof lens.add === "number" ? String(lens.add) : "";
+      const top = lens.segment && typeof lens.segment.top_mm === "number" ? lens.segment.top_mm : undefined;
+      form.querySelector(`#vf-ord-${eye}-seg-height`).value =
+        top !== undefined && fit && typeof fit.height_mm === "number" ? String(fit.height_mm + top) : "";
       filled.push(EYE[eye].toLowerCase());
     }
     let design = "";
@@ -153,7 +198,7 @@ export function createVerifyScreen({ messenger, firstResult }) {
     }
     note.textContent = filled.length
       ? `Copied the ${filled.join(" and ")} lens from the case${doc.name ? " “" + doc.name + "”" : ""}: ` +
-        `prescription, prism, monocular PD and height${design}.`
+        `prescription, prism, monocular PD, height, add and segment height${design}.`
       : "The case screen has no prescription yet: enter it there first, or type the order here.";
     changed();
   });
@@ -231,8 +276,9 @@ export function createVerifyScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- drawing the answer
   function renderVerdicts(body, result) {
     const overall = result.result;
-    const head = el("div", { class: "verdict-banner", "data-result": overall },
+    const head = el("div", { class: "verdict-banner answer-band", "data-result": overall },
       el("p", { class: "verdict-word" }, fig(result, "result", (v) => STATUS_WORDS[v] || v)),
+      worstLine(result),
       el("p", { class: "verdict-against" }, "against ", fig(result, "standard.short"), " · ",
         fig(result, "lens_type", words), " · ", fig(result, "mounting"),
         result.mounting === "mounted" ? el("span", {}, " · horizontal reading: ", fig(result, "horizontal_reading", words)) : null));
@@ -243,9 +289,17 @@ export function createVerifyScreen({ messenger, firstResult }) {
         "this verdict uses tolerance values from memory (", fig(result, "standard.short"),
         "). Source as recorded: ", fig(result, "standard.source")));
     }
-    parts.push(cautionsBox(result, "Before you rely on this verdict"));
     const cards = el("div", { class: "verdicts" }, ...result.verdicts.map((_, i) => verdictCard(result, i)));
-    parts.push(cards);
+    const details = [cards];
+    if (result.not_checked && result.not_checked.length) {
+      details.push(el("section", { class: "derived", "aria-labelledby": "vf-h-unread" },
+        el("h3", { id: "vf-h-unread", text: "Not checked, because it was not read or not ordered" }),
+        el("ul", { class: "assumptions" }, ...result.not_checked.map((_, i) => el("li", {}, fig(result, `not_checked.${i}`))))));
+    }
+    parts.push(el("details", { class: "more verdict-details", "data-remember": "verdicts" },
+      el("summary", {}, el("span", { text: `Every criterion (${result.verdicts.length}), with limits, rules and sources` })),
+      ...details));
+    parts.push(cautionsBox(result, "Before you rely on this verdict"));
     parts.push(eyesBlock(result));
     if (result.assumptions.length) {
       parts.push(el("section", { class: "derived", "aria-labelledby": "vf-h-assume" },
@@ -253,6 +307,19 @@ export function createVerifyScreen({ messenger, firstResult }) {
         el("ul", { class: "assumptions" }, ...result.assumptions.map((_, i) => el("li", {}, fig(result, `assumptions.${i}`))))));
     }
     body.replaceChildren(...parts);
+  }
+
+  function worstLine(result) {
+    const i = result.worst;
+    if (i === null || i === undefined) return null;
+    const v = result.verdicts[i];
+    const p = `verdicts.${i}`;
+    const judged = v.status === "pass" || v.status === "fail";
+    return el("p", { class: "verdict-worst" },
+      v.status === "fail" ? "Furthest over: " : judged ? "Least room: " : "Not judged: ",
+      fig(result, p + ".label"),
+      judged ? el("span", {}, " — ", fig(result, p + ".value", withUnit(v.unit, 2)), " against ",
+        fig(result, p + ".limit", withUnit(v.unit, 2)), " (margin ", fig(result, p + ".margin", withUnit(v.unit, 2, true)), ")") : null);
   }
 
   function verdictCard(result, i) {
@@ -267,6 +334,8 @@ export function createVerifyScreen({ messenger, firstResult }) {
       el("p", { class: "what" }, fig(result, p + ".what")));
     if (v.status === "not_judged") {
       card.append(el("p", { class: "missing" }, fig(result, p + ".missing")));
+    } else if (v.status === "not_defined") {
+      card.append(el("p", { class: "missing" }, fig(result, p + ".in_words")));
     } else {
       card.append(el("dl", { class: "measure" },
         el("div", {}, el("dt", { text: "Value" }), el("dd", {}, fig(result, p + ".value", unit))),
@@ -308,10 +377,15 @@ export function createVerifyScreen({ messenger, firstResult }) {
         el("thead", {}, el("tr", {}, ...["Quantity", "Value", "Limit", "Margin", "Result"].map((t) => el("th", { scope: "col", text: t })))),
         el("tbody", {}, ...rows))));
     }
+    if (v.wearer) {
+      card.append(el("div", { class: "wearer-effect", role: "note" },
+        el("strong", { text: "For the wearer: " }), fig(result, p + ".wearer.in_words"),
+        el("small", {}, " (", fig(result, p + ".wearer.rule"), "; ", fig(result, p + ".wearer.source"), ")")));
+    }
     card.append(facts(
       factRow("Limit that applied", fig(result, p + ".applied")),
       v.power_d !== undefined ? factRow("Deciding power", fig(result, p + ".power_d", (d) => signed(2)(d) + " D"),
-        " (", fig(result, p + ".power_from"), " lens)") : null,
+        v.power_from ? el("span", {}, " (", fig(result, p + ".power_from"), " lens)") : null) : null,
       factRow("Rule", fig(result, p + ".rule")),
       factRow("Source", fig(result, p + ".source"), " · ",
         el("span", { class: "certainty " + (v.unverified ? "bad" : "good") }, fig(result, p + ".certainty")))));

@@ -1,4 +1,4 @@
-"""Prism tolerance tables for verifying finished spectacles, one per standard and edition.
+"""Tolerance tables for verifying finished spectacles, one per standard and edition.
 
 The limits live in pycore/data/tolerance-*.json, never in the logic. Each
 table and each row carries its source and how sure it is:
@@ -12,7 +12,8 @@ table and each row carries its source and how sure it is:
 A row is one criterion (vertical, horizontal, or a single unmounted lens) for
 some lens types and a mounting. Its bands switch with the power in the
 criterion's meridian: a prism limit (prism dioptres) up to a power, then a
-millimetre limit on where the prism reference points are.
+millimetre limit on where the prism reference points are. The power, axis,
+add and segment rows (``lens_rows``) are read by pycore.checks.lens_tolerances.
 """
 
 from __future__ import annotations
@@ -21,6 +22,7 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Any, Literal
 
+from pycore.checks.lens_tolerances import LensRow, read_lens_row
 from pycore.documents.datafiles import DataFileError, choose, need, tables_by_id
 
 LensType = Literal["single_vision", "multifocal", "progressive"]
@@ -126,10 +128,17 @@ class ToleranceTable:
     source: str
     note: str
     rows: tuple[Row, ...]
+    lens_rows: tuple[LensRow, ...] = ()
 
     @property
     def unverified(self) -> bool:
-        return self.certainty == "from memory" or any(row.unverified for row in self.rows)
+        return (self.certainty == "from memory" or any(row.unverified for row in self.rows)
+                or any(row.unverified for row in self.lens_rows))
+
+    def lens_rows_for(self, lens_type: str, mounting: str) -> tuple[LensRow, ...]:
+        """The power, axis, add and position rows for a lens type and mounting."""
+        return tuple(row for row in self.lens_rows
+                     if lens_type in row.lens_types and mounting in row.mountings)
 
     def rows_for(self, lens_type: str, mounting: str) -> tuple[Row, ...]:
         return tuple(row for row in self.rows
@@ -139,7 +148,8 @@ class ToleranceTable:
         return {"id": self.id, "short": self.short, "title": self.title, "standard": self.standard,
                 "edition": self.edition, "certainty": self.certainty,
                 "unverified": self.unverified, "source": self.source, "note": self.note,
-                "rows": [row.as_dict() for row in self.rows]}
+                "rows": [row.as_dict() for row in self.rows],
+                "lens_rows": [row.as_dict() for row in self.lens_rows]}
 
 
 @cache
@@ -159,7 +169,9 @@ def _read_table(obj: Any, name: str) -> ToleranceTable:
                          "note")}
     _certainty(texts["certainty"], name)
     rows = tuple(_read_row(row, name) for row in need(obj, "rows", list, name))
-    return ToleranceTable(rows=rows, **texts)
+    lens_rows = tuple(read_lens_row(row, name, CERTAINTIES, LENS_TYPES, MOUNTINGS)
+                      for row in obj.get("lens_rows", []))
+    return ToleranceTable(rows=rows, lens_rows=lens_rows, **texts)
 
 
 def _read_row(obj: Any, name: str) -> Row:

@@ -10,7 +10,14 @@ For each lens, with the prism field of the lens P(q) = P(m) - F (q - m)
   q = m + F^-1 (P(m) - ordered), using the measured powers when given.
 
 The prism rows of a table judge the unwanted prism at the specified points;
-the millimetre rows (above a power) judge where the PRPs actually are.
+the millimetre rows (above a power) judge where the PRPs actually are. The
+bands apply per lens: a lens whose power in a meridian is within the prism
+band (below the row's switch power) cannot place its PRP to the millimetre
+limit by prism, so along that meridian its unwanted prism is counted as at
+the switch power, either way (judged by prism), never divided by a weak
+power; a verdict therefore never jumps when a weak lens's power moves a
+little. The power, axis, add and segment rows are judged by
+pycore.checks.lens_check.
 Signs as everywhere in the core: base_in + (base out -), base_up + (base
 down -); net vertical positive = base up before the right eye.
 """
@@ -22,6 +29,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from pycore.cautions import CAUTIONS
+from pycore.checks.lens_check import lens_verdicts
 from pycore.checks.tolerances import QUANTITIES, Band, Row
 from pycore.checks.verification_input import Verification
 from pycore.errors import CaseError
@@ -95,14 +103,16 @@ def verify(job: Verification) -> dict[str, Any]:
             verdicts.extend(_single_lens(job, row, findings[eye]) for eye in job.eyes)
         else:
             verdicts.append(_pair_criterion(job, row, findings))
-    judged = [v for v in verdicts if v["status"] != "not_judged"]
-    if any(v["status"] == "fail" for v in verdicts):
+    lens, not_checked = lens_verdicts(job)
+    verdicts.extend(lens)
+    counted = [v for v in verdicts if v["status"] != "not_defined"]
+    if any(v["status"] == "fail" for v in counted):
         overall = "fail"
-    elif len(judged) < len(verdicts):
+    elif any(v["status"] == "not_judged" for v in counted):
         overall = "incomplete"
     else:
         overall = "pass"
-    unverified = any(v["unverified"] for v in verdicts)
+    unverified = any(v["unverified"] for v in counted)
     result: dict[str, Any] = {
         "name": job.name,
         "result": overall,
@@ -112,6 +122,8 @@ def verify(job: Verification) -> dict[str, Any]:
         "mounting": settings.mounting,
         "horizontal_reading": settings.horizontal_reading,
         "verdicts": verdicts,
+        "worst": worst_verdict(verdicts),
+        "not_checked": not_checked,
         "eyes": {eye: f.as_dict() for eye, f in findings.items()},
         "assumptions": assumptions,
         "cautions": _cautions(job, unverified, verdicts),
@@ -120,6 +132,24 @@ def verify(job: Verification) -> dict[str, Any]:
         net = NetPrism.between(findings["right"].unwanted, findings["left"].unwanted)
         result["net_unwanted"] = net.as_dict()
     return result
+
+
+def worst_verdict(verdicts: list[dict[str, Any]]) -> int | None:
+    """Index of the verdict that decides the answer: the failure furthest over its limit
+    (margin as a share of the limit), else the judged verdict with least room, else the
+    first not judged; None without verdicts."""
+    def room(i: int) -> float:
+        verdict = verdicts[i]
+        return float(verdict["margin"]) / max(float(verdict["limit"]), PASS_EPSILON)
+
+    judged = [i for i, v in enumerate(verdicts) if v["status"] in ("pass", "fail")]
+    failed = [i for i in judged if verdicts[i]["status"] == "fail"]
+    if failed:
+        return min(failed, key=room)
+    missing = [i for i, v in enumerate(verdicts) if v["status"] == "not_judged"]
+    if missing:
+        return missing[0]
+    return min(judged, key=room) if judged else None
 
 
 # --------------------------------------------------------------------------- one lens
@@ -197,6 +227,59 @@ def _mark_up(job: Verification, eye: Eye, notes: list[str]) -> float:
     return heights[eye] - ordered_height
 
 
+@dataclass(frozen=True)
+class Located:
+    """Where a PRP is for judging a millimetre band (mm, nasal +, up +): ``exact`` along
+    meridians strong enough to place it, ``slack_*`` the extent either way that the
+    unwanted prism along weaker meridians stands for when counted at the floor power."""
+
+    exact: Offset
+    slack_in_mm: float
+    slack_up_mm: float
+    weak: bool
+
+
+def locate(findings: EyeFindings, floor_d: float) -> Located:
+    """The PRP as made for a millimetre band whose prism band reaches ``floor_d``.
+
+    Along a principal meridian of power at least ``floor_d``, the prism places the
+    PRP exactly (F^-1); along a weaker one the unwanted prism a is counted as
+    a / floor_d either way (judged by prism), which is continuous in the power.
+    """
+    f = findings.power
+    x, y = (findings.at_mark - findings.target).examiner_frame(findings.eye)
+    half_sum, half_diff = (f.xx + f.yy) / 2.0, (f.xx - f.yy) / 2.0
+    radius = math.hypot(half_diff, f.xy)
+    angle = 0.5 * math.atan2(2.0 * f.xy, f.xx - f.yy)
+    exact_x = exact_y = slack_x = slack_y = 0.0
+    weak = False
+    for value, (ux, uy) in ((half_sum + radius, (math.cos(angle), math.sin(angle))),
+                            (half_sum - radius, (-math.sin(angle), math.cos(angle)))):
+        along = ux * x + uy * y
+        if abs(value) >= floor_d:
+            exact_x += along / value * ux
+            exact_y += along / value * uy
+        else:
+            weak = True
+            slack_x += abs(along) / floor_d * abs(ux)
+            slack_y += abs(along) / floor_d * abs(uy)
+    mark = findings.mark
+    exact = Offset(mark.in_mm + nasal_sign(findings.eye) * exact_x * 10.0,
+                   mark.up_mm + exact_y * 10.0)
+    return Located(exact, slack_x * 10.0, slack_y * 10.0, weak)
+
+
+def floor_power(row: Row) -> float:
+    """The power below which a lens places its PRP by prism no better than the prism band:
+    the row's switch power, or (no switch) where its prism and mm limits meet."""
+    switch = [band.up_to_power_d for band in row.bands if band.up_to_power_d is not None]
+    if switch:
+        return max(switch)
+    prism = next(band.limit for band in row.bands if band.kind == "prism")
+    millimetres = next(band.limit for band in row.bands if band.kind == "mm")
+    return prism / (millimetres / 10.0)
+
+
 def _pseudo_inverse_times(f: PowerMatrix, x: float, y: float) -> tuple[float, float]:
     """F^+ (x, y): F^-1 along the meridians with power, nothing along any without."""
     half_sum, half_diff = (f.xx + f.yy) / 2.0, (f.xx - f.yy) / 2.0
@@ -242,20 +325,38 @@ def _pair_criterion(job: Verification, row: Row,
                        net.vertical_in_words())
     if band.quantity == "horizontal_total":
         return _horizontal(job, verdict, band, right, left)
+    floor = floor_power(row)
+    located = {eye: locate(f, floor) for eye, f in findings.items()}
+    weak = [eye for eye in findings if abs(powers[eye]) < floor]
+    if weak:
+        verdict["judged_by_prism"] = weak
+        verdict["applied"] += (
+            f" The {' and '.join(weak)} lens is below ±{floor:g} D in this meridian, too weak "
+            "to place its reference point by prism: its unwanted prism is counted as at "
+            f"±{floor:g} D, either way (judged by prism).")
+    r, lft = located["right"], located["left"]
     if band.quantity == "height_difference":
-        diff = right.prp_offset.up_mm - left.prp_offset.up_mm
+        diff = r.exact.up_mm - lft.exact.up_mm
+        slack = r.slack_up_mm + lft.slack_up_mm
         higher = "right" if diff > 0 else "left"
         words = (f"the {higher} reference point sits {abs(diff):.1f} mm higher than ordered "
                  "relative to the other") if abs(diff) >= 0.05 else "heights as ordered"
-        return _judged(verdict, band.limit, abs(diff), words)
+        if slack >= 0.05:
+            words += f"; the weak lens's prism counts for up to {slack:.1f} mm more"
+        return _judged(verdict, band.limit, abs(diff) + slack, words)
     if band.quantity == "pd_difference":
-        diff = -(right.prp_offset.in_mm + left.prp_offset.in_mm)
+        diff = -(r.exact.in_mm + lft.exact.in_mm)
+        slack = r.slack_in_mm + lft.slack_in_mm
         words = (f"the reference points are {abs(diff):.1f} mm "
                  f"{'wider' if diff > 0 else 'narrower'} apart than the ordered PD"
                  if abs(diff) >= 0.05 else "reference points at the ordered PD")
-        return _judged(verdict, band.limit, abs(diff), words)
+        if slack >= 0.05:
+            words += f"; the weak lens's prism counts for up to {slack:.1f} mm more"
+        return _judged(verdict, band.limit, abs(diff) + slack, words)
     attribute = "up_mm" if band.quantity == "height_each" else "in_mm"
-    each = {eye: abs(getattr(f.prp_offset, attribute)) for eye, f in findings.items()}
+    each = {eye: abs(getattr(place.exact, attribute))
+            + (place.slack_up_mm if attribute == "up_mm" else place.slack_in_mm)
+            for eye, place in located.items()}
     verdict["per_eye"] = each
     worst = max(each, key=lambda eye: each[eye])
     what = "height" if attribute == "up_mm" else "monocular PD"
@@ -291,6 +392,11 @@ def _single_lens(job: Verification, row: Row, lens: EyeFindings) -> dict[str, An
     verdict = _frame(job, row, row.bands[0])
     verdict["eye"] = lens.eye
     verdict["label"] = f"{lens.eye.capitalize()} lens (unmounted)"
+    measured = job.measured.get(lens.eye)
+    if measured is None or (measured.prism is None and measured.offset is None):
+        return _not_judged(verdict, "no prism read on this lens")
+    place = locate(lens, floor_power(row))
+    position_mm = place.exact.total_mm + math.hypot(place.slack_in_mm, place.slack_up_mm)
     options = []
     for band in row.bands:
         if band.quantity == "prism_at_prp":
@@ -300,7 +406,7 @@ def _single_lens(job: Verification, row: Row, lens: EyeFindings) -> dict[str, An
         else:
             options.append({"quantity": band.quantity, "kind": band.kind, "unit": band.unit,
                             "what": QUANTITIES[band.quantity][1],
-                            **_reading(band.limit, lens.prp_offset.total_mm)})
+                            **_reading(band.limit, position_mm)})
     verdict["options"] = options
     chosen = next((o for o in options if o["pass"]), options[0])
     verdict.update({"quantity": chosen["quantity"], "kind": chosen["kind"],
@@ -308,7 +414,10 @@ def _single_lens(job: Verification, row: Row, lens: EyeFindings) -> dict[str, An
     verdict["applied"] = ("Either limit suffices: " + " or ".join(
         f"{o['what']} at most {o['limit']:g} {o['unit']}" for o in options) + ".")
     words = (f"unwanted {lens.unwanted.in_words()}; the reference point is "
-             f"{lens.prp_offset.total_mm:.1f} mm from its specified position")
+             f"{position_mm:.1f} mm from its specified position")
+    if place.weak:
+        words += (" (a meridian too weak to place it by prism counts its prism as at "
+                  f"±{floor_power(row):.2f} D: judged by prism)")
     return _judged(verdict, chosen["limit"], chosen["value"], words)
 
 
@@ -363,7 +472,8 @@ def _not_judged(verdict: dict[str, Any], why: str) -> dict[str, Any]:
 
 
 def _reading(limit: float, value: float) -> dict[str, Any]:
-    return {"value": value, "limit": limit, "margin": limit - value,
+    value = round(value, 9) + 0.0
+    return {"value": value, "limit": limit, "margin": round(limit - value, 9) + 0.0,
             "pass": value <= limit + PASS_EPSILON}
 
 
@@ -405,6 +515,9 @@ def _cautions(job: Verification, unverified: bool, verdicts: list[dict[str, Any]
     if any(v["certainty"] == "sourced, earlier edition" for v in verdicts):
         notes.insert(0, "The progressive row is reproduced from an earlier edition "
                         "(Z80.1-1999); check the current edition before relying on it.")
+    if any(v["status"] == "not_defined" for v in verdicts):
+        notes.append("An axis is not judged where the ordered cylinder is too weak for the "
+                     "standard to define one.")
     if job.settings.lens_type == "progressive":
         notes.append("Progressive lenses are judged at the prism reference point (usually "
                      "2-4 mm below the fitting cross; the design's markings say where), with "

@@ -13,6 +13,12 @@ to the prism reference point (PRP) or marked centre; a height from the lowest
 point of the frame's lens shape (the box's lower line). ``offset`` (unmounted
 lenses only) is where the measured point lies relative to the specified PRP:
 ``in_mm`` toward the nose positive, ``up_mm`` upward positive.
+
+Besides the prism, a lens (ordered or measured) may carry its powers (``rx``
+or ``sphere``/``cylinder``/``axis``, as a case's lens), ``add``, a
+``segment`` (``height_mm`` of its top above the lowest point of the lens
+shape, ``mono_pd_mm`` of its centre from the bridge centre; measured also
+``tilt_deg``) and a progressive's ``fitting_cross_height_mm``.
 """
 
 from __future__ import annotations
@@ -45,6 +51,7 @@ from pycore.optics.power import Prescription
 from pycore.optics.prism import Prism
 from pycore.spectacles.gaze import LensPoint
 from pycore.spectacles.heights import reference_point_height_mm
+from pycore.spectacles.lens import ADD_LIMIT_D
 from pycore.validation import in_range
 
 if TYPE_CHECKING:
@@ -56,6 +63,20 @@ OFFSET_LIMIT_MM = 20.0
 PD_RANGE_MM = (40.0, 90.0)
 MONO_RANGE_MM = (20.0, 45.0)
 HEIGHT_RANGE_MM = (5.0, 45.0)
+SEGMENT_HEIGHT_RANGE_MM = (0.0, 45.0)
+ADD_RANGE_D = (0.0, ADD_LIMIT_D)
+TILT_RANGE_DEG = (-45.0, 45.0)
+
+
+@dataclass(frozen=True)
+class SegmentPlace:
+    """Where a segment sits (mm): top ``height_mm`` above the lowest point of the lens
+    shape, centre ``mono_pd_mm`` from the bridge centre, ``tilt_deg`` from level
+    (either way; measured only)."""
+
+    height_mm: float | None = None
+    mono_pd_mm: float | None = None
+    tilt_deg: float | None = None
 
 
 @dataclass(frozen=True)
@@ -71,6 +92,9 @@ class OrderedLens:
     mono_pd_mm: float | None = None
     height_mm: float | None = None
     thinning_base_down: float = 0.0
+    add: float | None = None
+    segment: SegmentPlace | None = None
+    fitting_cross_height_mm: float | None = None
 
     @property
     def target(self) -> Prism:
@@ -90,11 +114,15 @@ class MeasuredLens:
     mono_pd_mm: float | None = None
     height_mm: float | None = None
     offset: LensPoint | None = None
+    add: float | None = None
+    segment: SegmentPlace | None = None
+    fitting_cross_height_mm: float | None = None
 
     @property
     def is_empty(self) -> bool:
         return (self.prism is None and self.mono_pd_mm is None and self.height_mm is None
-                and self.offset is None)
+                and self.offset is None and self.prescription is None and self.add is None
+                and self.segment is None and self.fitting_cross_height_mm is None)
 
 
 @dataclass(frozen=True)
@@ -142,10 +170,11 @@ _SETTING_KEYS = ("standard", "lens_type", "mounting", "horizontal_reading",
                  "thinning_base_down")
 _DOC_KEYS = (*_SETTING_KEYS, "ordered", "measured", "name", "notes", "schema")
 _SECTION_KEYS = (*_SETTING_KEYS, "measured")
-_ORDERED_LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "mono_pd_mm", "height_mm")
+_ORDERED_LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "mono_pd_mm", "height_mm",
+                      "add", "segment", "fitting_cross_height_mm")
 _MEASURED_MOUNTED_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "mono_pd_mm",
-                          "height_mm")
-_MEASURED_UNMOUNTED_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "offset")
+                          "height_mm", "add", "segment", "fitting_cross_height_mm")
+_MEASURED_UNMOUNTED_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "offset", "add")
 
 
 def read_verification(document: Any) -> Verification:
@@ -212,12 +241,16 @@ def from_case(case: Case, section: Section, path: str = "verification") -> Verif
         fit = None
         if case.fitting is not None:
             fit = case.fitting.right if eye == "right" else case.fitting.left
-        # The standard's height is the PRP's: below the fitting cross on a progressive.
+        height = fit.height_mm if fit else None
+        segment = None
+        if lens.segment is not None and height is not None:
+            segment = SegmentPlace(height + lens.segment.top_mm)
+        # The standard's prism height is the PRP's: below the fitting cross on a progressive.
         ordered[eye] = OrderedLens(lens.prescription, lens.prism,
                                    fit.mono_pd_mm if fit else None,
-                                   reference_point_height_mm(lens, fit.height_mm if fit
-                                                             else None),
-                                   thinning[eye])
+                                   reference_point_height_mm(lens, height), thinning[eye],
+                                   lens.add or None, segment,
+                                   height if given["lens_type"] == "progressive" else None)
     pd = case.fitting.distance_pd_mm if case.fitting is not None else None
     _pair_consistency(settings, ordered, "fitting")
     return Verification(settings, ordered, section.measured, pd,
@@ -268,7 +301,22 @@ def _ordered_lens(value: Any, path: str, thinning: float) -> OrderedLens:
     prism = read_prism(obj["prism"], f"{path}.prism", eye) if "prism" in obj else Prism()
     return OrderedLens(rx, prism, optional_range(obj, path, "mono_pd_mm", *MONO_RANGE_MM, "mm"),
                        optional_range(obj, path, "height_mm", *HEIGHT_RANGE_MM, "mm"),
-                       thinning)
+                       thinning, optional_range(obj, path, "add", *ADD_RANGE_D, "dioptres"),
+                       _segment(obj, path, measured=False),
+                       optional_range(obj, path, "fitting_cross_height_mm", *HEIGHT_RANGE_MM,
+                                      "mm"))
+
+
+def _segment(obj: Mapping[str, Any], path: str, measured: bool) -> SegmentPlace | None:
+    if "segment" not in obj:
+        return None
+    where = path_of(path, "segment")
+    seg = as_object(obj["segment"], where, "a segment position (height_mm, mono_pd_mm)")
+    only_keys(seg, where, ("height_mm", "mono_pd_mm", "tilt_deg") if measured
+              else ("height_mm", "mono_pd_mm"))
+    return SegmentPlace(optional_range(seg, where, "height_mm", *SEGMENT_HEIGHT_RANGE_MM, "mm"),
+                        optional_range(seg, where, "mono_pd_mm", *MONO_RANGE_MM, "mm"),
+                        optional_range(seg, where, "tilt_deg", *TILT_RANGE_DEG, "degrees"))
 
 
 def _measured(value: Any, path: str, settings: Settings,
@@ -293,8 +341,9 @@ def _measured(value: Any, path: str, settings: Settings,
         raise CaseError(where, f"{where} and measured monocular PDs both given; give the "
                                "distance between the centres one way only.")
     if centre is None and all(m.is_empty for m in measured.values()):
-        raise CaseError(path, f"{path} holds no measurement: give the prism found at each "
-                              "lens's reference point, or where the centres are.")
+        raise CaseError(path, f"{path} holds no measurement: give what the lensmeter reads "
+                              "at each lens's reference point (powers, prism), or where the "
+                              "centres are.")
     for eye in eyes:
         if unmounted and (eye not in measured or measured[eye].is_empty):
             where = path_of(path, eye)
@@ -321,7 +370,11 @@ def _measured_lens(value: Any, path: str, unmounted: bool) -> MeasuredLens:
             in_range(off.get("up_mm", 0), path_of(where, "up_mm"), -OFFSET_LIMIT_MM,
                      OFFSET_LIMIT_MM, "mm"))
     return MeasuredLens(prism, rx, optional_range(obj, path, "mono_pd_mm", *MONO_RANGE_MM, "mm"),
-                        optional_range(obj, path, "height_mm", *HEIGHT_RANGE_MM, "mm"), offset)
+                        optional_range(obj, path, "height_mm", *HEIGHT_RANGE_MM, "mm"), offset,
+                        optional_range(obj, path, "add", *ADD_RANGE_D, "dioptres"),
+                        _segment(obj, path, measured=True),
+                        optional_range(obj, path, "fitting_cross_height_mm", *HEIGHT_RANGE_MM,
+                                       "mm"))
 
 
 def _pd(obj: Mapping[str, Any], path: str, key: str,

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from typing import Any
 
-_MARK = {"pass": "PASS", "fail": "FAIL", "not_judged": "NOT JUDGED"}
+_MARK = {"pass": "PASS", "fail": "FAIL", "not_judged": "NOT JUDGED",
+         "not_defined": "NOT DEFINED"}
 
 
 def verification_lines(result: dict[str, Any]) -> list[str]:
@@ -15,16 +16,25 @@ def verification_lines(result: dict[str, Any]) -> list[str]:
     if result["unverified"]:
         title += " (UNVERIFIED: tolerance values from memory)"
     lines = [title, f"  {result['lens_type'].replace('_', ' ')}, {result['mounting']}"]
+    worst = result.get("worst")
+    if worst is not None:
+        decider = result["verdicts"][worst]
+        lines.append(f"  deciding criterion: {decider['label']} "
+                     f"({_MARK[decider['status']].lower()})")
     for verdict in result["verdicts"]:
         lines.append("")
         lines.append(f"  {verdict['label']}: {_MARK[verdict['status']]}")
         if verdict["status"] == "not_judged":
             lines.append(f"    {verdict['missing']}")
+        elif verdict["status"] == "not_defined":
+            lines.append(f"    {verdict['in_words']}")
         else:
             lines.append(f"    {verdict['what']}: {_number(verdict)} (limit "
                          f"{verdict['limit']:g} {verdict['unit']}, margin "
-                         f"{verdict['margin']:+.2f})")
+                         f"{_signed(verdict['margin'])})")
             lines.append(f"    {verdict['in_words']}")
+            if "wearer" in verdict:
+                lines.append(f"    for the wearer: {verdict['wearer']['in_words']}")
         reading = verdict.get("reading")
         if reading:
             other = "per_eye" if reading == "total" else "total"
@@ -45,6 +55,9 @@ def verification_lines(result: dict[str, Any]) -> list[str]:
     if "net_unwanted" in result:
         net = result["net_unwanted"]
         lines.append(f"  net    {net['vertical_in_words']}; {net['horizontal_in_words']}")
+    if result.get("not_checked"):
+        lines.append("")
+        lines.extend(f"  not checked: {note}" for note in result["not_checked"])
     if result["assumptions"]:
         lines.append("")
         lines.extend(f"  assumed: {note}" for note in result["assumptions"])
@@ -56,6 +69,11 @@ def verification_text(result: dict[str, Any]) -> str:
              *verification_lines(result), ""]
     lines.extend(f"! {caution}" for caution in result["cautions"])
     return "\n".join(lines) + "\n"
+
+
+def _signed(value: float) -> str:
+    text = f"{value:+.2f}"
+    return "0.00" if text in ("+0.00", "-0.00") else text
 
 
 def _number(verdict: dict[str, Any]) -> str:

@@ -1,7 +1,9 @@
 """Batch runs for laboratories: many cases in, one report out, bad rows reported.
 
 Input: a folder of case files (``*.json``), or a CSV file with one case per
-row (columns are dotted field paths, see pycore.documents.csv_cases). Each case gives the
+row (columns are dotted field paths, see pycore.documents.csv_cases; a lensmeter reading
+is ``verification.measured.right.rx``, ``...add``, ``...segment.height_mm`` and
+so on, the case format's own keys). Each case gives the
 net prism at each of its points of gaze and, where it has a ``verification``
 section, the verdicts. A refused case becomes a report line with its source,
 line and field; the others go on. Reports: CSV (one row per case and point),
@@ -135,8 +137,9 @@ def run_item(item: Item) -> dict[str, Any]:
 
 def _verdict_summary(result: dict[str, Any]) -> dict[str, Any]:
     verdicts = [{key: verdict.get(key) for key in
-                 ("criterion", "eye", "status", "quantity", "value", "limit", "margin", "unit",
-                  "reading", "certainty")} for verdict in result["verdicts"]]
+                 ("criterion", "label", "eye", "status", "quantity", "value", "limit", "margin",
+                  "unit", "reading", "certainty", "unverified")}
+                for verdict in result["verdicts"]]
     return {"standard": result["standard"]["id"], "result": result["result"],
             "unverified": result["unverified"], "verdicts": verdicts}
 

@@ -253,6 +253,53 @@ def test_verify_figures_match_cli(page):
     page.select_option("#vf-reading", "total")
 
 
+WHOLE_FIELDS = {
+    "#vf-ord-right-rx": "-2.00 / -1.00 x 180", "#vf-ord-left-rx": "-2.25 DS",
+    "#vf-ord-right-add": "2", "#vf-ord-left-add": "2",
+    "#vf-ord-right-seg-height": "18", "#vf-ord-left-seg-height": "18",
+    "#vf-mes-right-rx": "-3.00 / +1.00 x 96", "#vf-mes-left-rx": "-2.25 DS",
+    "#vf-mes-right-add": "2.12", "#vf-mes-left-add": "2",
+    "#vf-mes-right-prism": "0", "#vf-mes-left-prism": "0.25 BU",
+    "#vf-mes-right-seg-height": "18.5", "#vf-mes-left-seg-height": "18",
+    "#vf-mes-right-seg-tilt": "1",
+}
+
+
+def test_verify_whole_pair_answer_band_matches_cli(page):
+    """The whole pair check (powers, axis, add, segment) shows the CLI's verdicts, the
+    deciding criterion in the answer band, and the wearer's side of an axis error."""
+    open_screen(page, "verify")
+    page.click("#vf-clear")
+    page.wait_for_selector("#vf-standard option[value='iso-21987-2009']", state="attached")
+    page.select_option("#vf-standard", "ansi-z80.1-2015")
+    page.select_option("#vf-lens-type", "multifocal")
+    page.select_option("#vf-mounting", "mounted")
+    before = seq(page, "#vf-results")
+    fill(page, WHOLE_FIELDS)
+    wait_for(page, "#vf-results", before)
+    request = wait_request(page, "#vf-results",
+                           lambda r: r.get("measured", {}).get("right", {}).get("segment")
+                           == {"height_mm": 18.5, "tilt_deg": 1})
+    assert request["measured"]["right"]["rx"] == "-3.00 / +1.00 x 96"
+    expected = cli("verify", request)
+    keys = assert_same(shown(page, "verify"), expected)
+    criteria = {v["criterion"] for v in expected["verdicts"]}
+    assert {"meridian_power", "cylinder", "axis", "add", "segment_height",
+            "segment_height_difference", "segment_tilt"} <= criteria
+    worst = expected["worst"]
+    assert expected["verdicts"][worst]["criterion"] == "axis"  # 6 deg against 3 (ANSI)
+    assert page.text_content("#vf-results .verdict-word") == expected["result"].upper()
+    assert page.text_content("#vf-results .verdict-worst").startswith("Furthest over:")
+    assert f"verdicts.{worst}.wearer.in_words" in keys
+    size = page.eval_on_selector_all(
+        "#vf-results *", "els => Math.max(...els.filter(e => e.textContent.trim())"
+        ".map(e => parseFloat(getComputedStyle(e).fontSize)))")
+    word = page.eval_on_selector("#vf-results .verdict-word",
+                                 "e => parseFloat(getComputedStyle(e).fontSize)")
+    assert word == size, "the verdict is the largest text of the answer"
+    page.select_option("#vf-lens-type", "single_vision")
+
+
 def test_verify_standards_are_listed_with_sources_and_unverified_flagged(page):
     open_screen(page, "verify")
     fill(page, VERIFY_FIELDS)

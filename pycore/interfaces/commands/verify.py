@@ -1,4 +1,4 @@
-"""``python -m pycore verify FILE``: judge a finished pair against a standard's prism limits."""
+"""``python -m pycore verify FILE``: judge a finished pair against a standard's tolerances."""
 
 from __future__ import annotations
 
@@ -14,7 +14,8 @@ from pycore.documents.cases import load_json, read_case
 from pycore.errors import CaseError
 from pycore.interfaces.commands.common import read_input, write_output
 
-HELP = "judge a finished pair's prism against a standard (ANSI Z80.1, ISO 21987, ...)"
+HELP = ("judge a finished pair (prism, powers, axis, add, segments) against a standard "
+        "(ANSI Z80.1, ISO 21987, ...)")
 
 DESCRIPTION = """\
 Verify finished spectacles. Give what was ordered (powers, prescribed prism,
@@ -25,6 +26,13 @@ works out the unwanted prism per lens and between the eyes, and judges it
 against the chosen standard's prism tolerances: pass or fail per criterion,
 with the margin and the rule that applied (above a power some rows switch
 from a prism limit to a millimetre limit on the PRP positions).
+
+With the lensmeter reading of each lens (rx or sphere/cylinder/axis, either
+cylinder sign; add; segment heights, positions and tilt; fitting-cross
+heights) it also judges the power in the principal meridians, the cylinder,
+the axis (never where the cylinder is too weak for the standard to define
+one), the add and the positions, each with value, limit, margin, rule and
+source, and says what an axis error leaves the wearer (2F sin(alpha)).
 
 Progressive lenses are judged at the PRP with the thinning prism taken out.
 ANSI horizontal: the standard's test method moves each lens until 1/3 prism
