@@ -290,7 +290,7 @@ export function renderPrintSummary(node, doc, result, chosen = null) {
     } else if (design && design.kind === "progressive") {
       parts.push(", corridor ", fig(result, `${d}.corridor_mm`, mm));
     }
-    parts.push(`; PD ${given(fit.mono_pd_mm)} mm, fitting height ${given(fit.height_mm)} mm`);
+    parts.push(`; PD ${given(fit.mono_pd_mm)} mm`, fit.height_mm !== undefined ? `, fitting height ${given(fit.height_mm)} mm` : "");
     if (lens.slab_off) parts.push(`; slab-off ${given(lens.slab_off.base_up)} Δ, line ${given(lens.slab_off.line_mm)} mm`);
     line(EYE_WORDS[eye], ...parts);
   }
