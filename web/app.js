@@ -1,19 +1,19 @@
-// Prism Desk page: collects input, asks the worker, shows the answer.
+// Prism Desk app shell: the worker, the engine status, the case bar (Save, Open,
+// Delete, New, Export, Import), notices and offline use. The case screen itself
+// (form, answer band, results) is case-screen.js; other screens are in views.js.
 // JavaScript never computes optics here: every figure comes from the core.
 import { Messenger } from "./messenger.js";
-import { CaseForm, pathInWords } from "./form.js";
-import { el, renderCautions, renderPrintSummary, renderResult, renderTransposed } from "./results.js";
+import { setUpCaseScreen } from "./case-screen.js";
+import { el } from "./results.js";
 import * as store from "./store.js";
-import { setUpZone } from "./zone.js";
 
-const DEBOUNCE_MS = 150;
 const $ = (selector) => document.querySelector(selector);
 
 const boot = self.prismBoot || { worker: null, early: [], error: "boot.js did not run" };
 const engineLine = $("#engine");
-const results = $("#results");
-const statusLine = $("#result-status");
-const body = $("#result-body");
+
+let caseScreen = null; // set up once the messenger exists
+let failedEarly = null; // a failure reported before the case screen was set up
 
 // Shared with other screens (they import these from this module).
 export const messenger = new Messenger(boot.worker, {
@@ -25,21 +25,9 @@ export const messenger = new Messenger(boot.worker, {
   },
 });
 
-const caseForm = new CaseForm($("#case-form"), $("#point-row"));
-// Lens designs, reading zone and remedies (zone.js): a part of the form and of the results.
-const zone = setUpZone({ caseForm, loadCase: (doc, message) => loadCase(doc, message), say: (text) => say(text),
-  form: $("#case-form"), results, statusLine, body });
-let lastGood = null; // {doc, result}
-let marked = []; // inputs marked invalid
-const touched = new Set(); // inputs the user has edited
-let firstResultShown = false;
-let printPending = false;
-
-function drawPrintSummary() {
-  if (printPending && lastGood) renderPrintSummary($("#print-summary"), lastGood.doc, lastGood.result);
-  printPending = false;
-}
-window.addEventListener("beforeprint", drawPrintSummary);
+caseScreen = setUpCaseScreen({ messenger, say: (text) => say(text), onFirstResult: () => offerOffline() });
+if (failedEarly) caseScreen.engineFailed(failedEarly);
+const loadCase = caseScreen.loadCase;
 
 // ---------------------------------------------------------------- engine status
 messenger.ready.then((msg) => {
@@ -52,207 +40,14 @@ messenger.ready.then((msg) => {
 function engineFailed(error) {
   engineLine.dataset.state = "failed";
   engineLine.textContent = "Calculator unavailable";
-  results.dataset.status = "failed";
-  const advice = el("div", { class: "engine-failed", role: "alert" },
-    el("h3", { text: "The calculator could not start" }),
-    el("p", { text: error && error.message ? error.message : "Unknown problem." }),
-    el("p", { text: "Your input is kept in this page's address and in this browser. What usually helps:" }),
-    el("ul", {},
-      el("li", { text: "Reload the page once; the first visit downloads about 14 MB." }),
-      el("li", { text: "Allow WebAssembly: some security settings, enterprise policies or " +
-        "privacy extensions turn it off." }),
-      el("li", { text: "Use a current version of Chrome, Edge, Firefox or Safari." }),
-      el("li", { text: "Free some storage space on the device, then reload." })),
-    el("button", { type: "button", class: "primary", id: "retry-engine", text: "Reload" }));
-  body.replaceChildren(advice);
-  statusLine.textContent = "No results: the calculator is not running.";
-  $("#retry-engine").addEventListener("click", () => location.reload());
+  if (caseScreen) caseScreen.engineFailed(error);
+  else failedEarly = error;
 }
-
-// ---------------------------------------------------------------- recompute
-let timer = 0;
-let timerPending = false;
-let inFlight = false;
-let again = false;
-
-function schedule(delay = DEBOUNCE_MS) {
-  clearTimeout(timer);
-  if (messenger.state !== "failed") results.dataset.status = "pending";
-  timerPending = true;
-  timer = setTimeout(recompute, delay);
-}
-
-async function recompute() {
-  timerPending = false;
-  if (inFlight) {
-    again = true; // only the newest form state is rendered
-    return;
-  }
-  const { doc, inputs } = caseForm.collect();
-  keep(doc);
-  inFlight = true;
-  const started = performance.now();
-  const reply = await messenger.request("evaluate", doc);
-  performance.measure("pd:answer", { start: started, end: performance.now() });
-  inFlight = false;
-  if (again) {
-    again = false;
-    recompute();
-    return;
-  }
-  if (timerPending) return; // newer input is on its way: draw only its answer
-  if (reply.ok) {
-    showResult(doc, reply.result);
-    performance.measure("pd:recompute", { start: started, end: performance.now() });
-    if (!firstResultShown) {
-      firstResultShown = true;
-      performance.mark("pd:first-result");
-      offerOffline();
-    }
-  } else if (messenger.state !== "failed") {
-    showError(reply.error, inputs);
-  }
-}
-
-function keep(doc) {
-  history.replaceState(null, "", store.caseAddress(doc));
-  store.saveDraft(doc);
-}
-
-function clearMarks() {
-  for (const input of marked) {
-    input.removeAttribute("aria-invalid");
-    const note = document.getElementById(input.id + "-error");
-    if (note) note.remove();
-    input.removeAttribute("aria-describedby");
-    input.closest(".field, .cell")?.classList.remove("invalid");
-  }
-  marked = [];
-}
-
-function showResult(doc, result) {
-  clearMarks();
-  lastGood = { doc, result };
-  renderResult(body, result);
-  renderTransposed($("#transposed"), result);
-  renderCautions($("#cautions"), result);
-  zone.render(result);
-  printPending = true; // the print summary is drawn when printing starts
-  $("#print-summary").dataset.stale = "false";
-  results.dataset.status = "current";
-  results.dataset.seq = String(Number(results.dataset.seq || 0) + 1);
-  statusLine.textContent = `Up to date · ${result.points.length} point${result.points.length === 1 ? "" : "s"} of gaze`;
-}
-
-// The input a refusal belongs to: the exact path, else the nearest enclosing one.
-function inputFor(field, inputs) {
-  let path = field;
-  while (path) {
-    if (inputs.has(path) && inputs.get(path)) return inputs.get(path);
-    path = path.includes(".") ? path.slice(0, path.lastIndexOf(".")) : "";
-  }
-  for (const [key, input] of inputs) {
-    if (field && key.startsWith(field + ".") && input) return input;
-  }
-  return null;
-}
-
-function showError(error, inputs) {
-  clearMarks();
-  const field = error.field || "";
-  const input = inputFor(field, inputs);
-  const words = field ? pathInWords(field) : "Case";
-  const untouchedEmpty = input && !touched.has(input) && input.value.trim() === "" && input.type !== "checkbox";
-  if (input && !untouchedEmpty) {
-    input.setAttribute("aria-invalid", "true");
-    const note = el("p", { class: "field-error", id: input.id + "-error" },
-      el("strong", { text: words + ": " }), error.message);
-    input.setAttribute("aria-describedby", note.id);
-    const holder = input.closest(".field") || input;
-    if (holder === input) {
-      input.classList.add("has-error");
-      const grid = input.closest(".grid");
-      (grid || input.parentElement).after(note);
-    } else {
-      holder.classList.add("invalid");
-      holder.append(note);
-    }
-    marked.push(input);
-  }
-  results.dataset.status = lastGood ? "stale" : "error";
-  $("#print-summary").dataset.stale = lastGood ? "true" : "false";
-  const lead = lastGood ? "Out of date – the figures below are for the last valid input. " : "";
-  statusLine.replaceChildren(el("span", { class: "problem" }, lead,
-    el("strong", { text: words + ": " }), error.message));
-  if (!lastGood) {
-    const hint = untouchedEmpty
-      ? "Enter the prescription for both eyes (sphere 0 for plano) to see the prism at each point of gaze."
-      : "Results appear here as soon as the input is complete.";
-    body.replaceChildren(el("p", { class: "empty", text: hint }));
-  }
-}
-
-// ---------------------------------------------------------------- editing
-const form = $("#case-form");
-form.addEventListener("input", (e) => {
-  if (e.target.matches("input")) touched.add(e.target);
-  if (e.target.matches("[data-path$='.rx']")) caseForm.syncWritten();
-  schedule();
-});
-form.addEventListener("change", (e) => {
-  if (e.target.type === "checkbox") schedule(0);
-});
-form.addEventListener("submit", (e) => e.preventDefault());
-$("#case-name").addEventListener("input", () => schedule());
-
-$("#add-point").addEventListener("click", () => {
-  const row = caseForm.addPoint({ name: "" });
-  row.querySelector("input").focus();
-  schedule(0);
-});
-$("#custom-points").addEventListener("click", (e) => {
-  const button = e.target.closest(".remove");
-  if (!button) return;
-  const row = button.closest("li");
-  const next = row.nextElementSibling || row.previousElementSibling;
-  row.remove();
-  caseForm.renumber();
-  (next ? next.querySelector(".remove") : $("#add-point")).focus();
-  schedule(0);
-});
 
 // ---------------------------------------------------------------- cases
 const caseMessage = $("#case-message");
 function say(text) {
   caseMessage.textContent = text;
-}
-
-function loadCase(doc, source) {
-  touched.clear();
-  const extras = caseForm.fill(doc);
-  for (const input of document.querySelectorAll("[data-path]")) if (input.value) touched.add(input);
-  const kept = [];
-  for (const [key, value] of Object.entries(extras)) {
-    if (key === "right" || key === "left") kept.push(...Object.keys(value).map((k) => `${key} ${k.replace(/_/g, " ")}`));
-    else kept.push(key.replace(/_/g, " "));
-  }
-  const extrasNote = $("#extras");
-  extrasNote.hidden = kept.length === 0;
-  extrasNote.replaceChildren();
-  if (kept.length) {
-    const drop = el("button", { type: "button", class: "secondary", text: "Leave these out" });
-    drop.addEventListener("click", () => {
-      caseForm.extras = {};
-      extrasNote.hidden = true;
-      say("Left out the parts this form does not show.");
-      schedule(0);
-    });
-    extrasNote.append(el("span", { text: "Also in this case, kept as given (this form does not edit them): " +
-      kept.join(", ") + ". " }), drop);
-  }
-  lastGood = null;
-  if (source) say(source);
-  schedule(0);
 }
 
 function refreshSaved(select = "") {
@@ -264,7 +59,7 @@ function refreshSaved(select = "") {
 }
 
 $("#save-case").addEventListener("click", () => {
-  const { doc } = caseForm.collect();
+  const { doc } = caseScreen.collect();
   const name = (doc.name || "").trim();
   if (!name) {
     say("Give the case a name first (the Case name field), then Save.");
@@ -277,7 +72,7 @@ $("#save-case").addEventListener("click", () => {
 $("#open-saved").addEventListener("click", () => {
   const name = $("#saved-cases").value;
   const doc = name && store.savedCase(name);
-  if (doc) loadCase(doc, `Opened “${name}”.`);
+  if (doc) loadCase(doc, `Opened “${name}”.`, { push: true });
 });
 $("#delete-saved").addEventListener("click", () => {
   const name = $("#saved-cases").value;
@@ -287,11 +82,11 @@ $("#delete-saved").addEventListener("click", () => {
   say(`Deleted “${name}” from this browser.`);
 });
 $("#new-case").addEventListener("click", () => {
-  loadCase({}, "New case.");
-  $("#right-sphere").focus();
+  loadCase({}, "New case.", { push: true });
+  caseScreen.focusFirst();
 });
 $("#export-case").addEventListener("click", () => {
-  const { doc } = caseForm.collect();
+  const { doc } = caseScreen.collect();
   const blob = new Blob([JSON.stringify(doc, null, 2) + "\n"], { type: "application/json" });
   const link = el("a", { href: URL.createObjectURL(blob), download: fileName(doc.name) });
   document.body.append(link);
@@ -319,22 +114,13 @@ $("#import-file").addEventListener("change", async (e) => {
     say(`Not imported: ${file.name}: ${reply.error.message} The current case is unchanged.`);
     return;
   }
-  loadCase(doc, reply.ok ? `Imported ${file.name}.` : `Imported ${file.name}; it needs a correction (marked below).`);
+  loadCase(doc, reply.ok ? `Imported ${file.name}.` : `Imported ${file.name}; it needs a correction (marked below).`,
+    { push: true });
 });
-$("#print-case").addEventListener("click", () => {
-  drawPrintSummary();
-  window.print();
-});
-
 function fileName(name) {
   const stem = (name || "case").replace(/[^\p{L}\p{N}._ -]+/gu, "").trim().replace(/\s+/g, "-") || "case";
   return stem + ".prism.json";
 }
-
-window.addEventListener("hashchange", () => {
-  const doc = store.caseFromAddress();
-  if (doc) loadCase(doc, "Opened the case in the address.");
-});
 
 // ---------------------------------------------------------------- offline and updates
 const notices = $("#notices");
@@ -398,10 +184,4 @@ export function offerOffline() {
 
 // ---------------------------------------------------------------- start
 refreshSaved();
-const initial = store.caseFromAddress() || store.draftCase();
-if (initial) {
-  loadCase(initial, "");
-} else {
-  caseForm.fill({});
-  schedule(0);
-}
+caseScreen.start();

@@ -23,6 +23,16 @@ function toText(value) {
   return JSON.stringify(value);
 }
 
+// Dioptres the way the trade writes them: a sign always, two decimals ("+1.00").
+// Only a number the form writes back into a field goes through here.
+export function dioptreText(value) {
+  if (typeof value !== "number" || !Number.isFinite(value)) return toText(value);
+  const text = Math.abs(value).toFixed(2);
+  if (Number(text) === 0) return "0.00";
+  return (value < 0 ? "-" : "+") + text;
+}
+const DIOPTRE_FIELDS = new Set(["sphere", "cylinder", "add"]);
+
 function prismText(value) {
   if (value === undefined || value === null) return "";
   if (typeof value !== "object" || Array.isArray(value)) return toText(value);
@@ -190,7 +200,8 @@ export class CaseForm {
     for (const eye of EYES) {
       const lens = doc[eye] && typeof doc[eye] === "object" ? doc[eye] : {};
       for (const key of LENS_FIELDS) {
-        this.input(eye + "." + key).value = key === "prism" ? prismText(lens[key]) : toText(lens[key]);
+        this.input(eye + "." + key).value = key === "prism" ? prismText(lens[key])
+          : DIOPTRE_FIELDS.has(key) ? dioptreText(lens[key]) : toText(lens[key]);
       }
       for (const [key, value] of Object.entries(lens)) {
         if (!LENS_FIELDS.includes(key)) (extras[eye] ||= {})[key] = value;
@@ -242,20 +253,40 @@ export function addPathWords(words) {
   Object.assign(extraWords, words);
 }
 
+const WORDS = {
+  right: "Right", left: "Left", sphere: "sphere", cylinder: "cylinder", axis: "axis", add: "add",
+  prism: "prescribed prism", rx: "prescription as written", fitting: "Fitting",
+  mono_pd_mm: "monocular PD", height_mm: "fitting height",
+  working_distance_mm: "working distance", centre_of_rotation_mm: "lens to centre of rotation",
+  reading_depth_mm: "reading depth", frame: "Frame", a_mm: "box width A", dbl_mm: "bridge DBL",
+  ed_mm: "effective diameter ED", b_mm: "box depth B", points: "Point of gaze",
+  in_mm: "in", up_mm: "up", name: "name", base_in: "base in", base_up: "base up",
+};
+
 export function pathInWords(path) {
-  const words = {
-    right: "Right", left: "Left", sphere: "sphere", cylinder: "cylinder", axis: "axis", add: "add",
-    prism: "prescribed prism", rx: "prescription as written", fitting: "Fitting",
-    mono_pd_mm: "monocular PD", height_mm: "fitting height",
-    working_distance_mm: "working distance", centre_of_rotation_mm: "lens to centre of rotation",
-    reading_depth_mm: "reading depth", frame: "Frame", a_mm: "box width A", dbl_mm: "bridge DBL",
-    ed_mm: "effective diameter ED", b_mm: "box depth B", points: "Point of gaze",
-    in_mm: "in", up_mm: "up", name: "name", ...extraWords,
-  };
-  const parts = path.split(".").filter((p) => p !== "");
+  const words = { ...WORDS, ...extraWords };
+  const parts = String(path).split(".").filter((p) => p !== "");
+  const say = (p) => words[p] || p.replace(/_mm$/, "").replace(/_/g, " ");
   if (parts[0] === "points" && parts.length > 1) {
-    return ["Point of gaze " + (Number(parts[1]) + 1), ...parts.slice(2).map((p) => words[p] || p)].join(", ");
+    return ["Point of gaze " + (Number(parts[1]) + 1), ...parts.slice(2).map(say)].join(", ");
   }
   if (parts[0] === "name") return "Case name";
-  return parts.map((p) => words[p] || p).join(" ");
+  // fitting.right.mono_pd_mm: "Right monocular PD" (the eye first, as people say it).
+  if (parts[0] === "fitting" && (parts[1] === "right" || parts[1] === "left")) {
+    return [say(parts[1]), ...parts.slice(2).map(say)].join(" ");
+  }
+  // A segment's height is the segment height, not the fitting height.
+  if (parts.length >= 2 && parts[parts.length - 2] === "segment" && parts[parts.length - 1] === "height_mm") {
+    return [...parts.slice(0, -2).map(say), "segment height"].join(" ");
+  }
+  const text = parts.map(say).join(" ");
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+// A refusal's message in words: internal keys such as "right.sphere" or
+// "diameter_mm" become the words the form uses ("Right sphere", "diameter").
+export function messageInWords(message) {
+  return String(message)
+    .replace(/\b[a-z][a-z_]*(?:\.(?:[a-z][a-z0-9_]*|\d+))+\b/g, (path) => pathInWords(path))
+    .replace(/\b[a-z]+(?:_[a-z0-9]+)+\b/g, (key) => pathInWords(key).toLowerCase());
 }

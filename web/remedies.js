@@ -79,7 +79,7 @@ function detailsLowered(result, base, option) {
       el("td", {}, fig(result, `${d}.trade.${i}.near`, signed))));
     out.push(el("details", { class: "zmore", "data-remember": `${base}.trade` },
       el("summary", { text: "Distance against near, mm by mm" }),
-      el("div", { class: "ztable-scroll" }, el("table", { class: "zsmall" },
+      el("div", { class: "ztable-scroll", role: "region", "aria-label": "Distance against near, mm by mm", tabindex: "0" }, el("table", { class: "zsmall" },
         el("thead", {}, el("tr", {}, el("th", { scope: "col", text: "Lowered" }),
           el("th", { scope: "col", text: "Distance Δ" }), el("th", { scope: "col", text: "Reading point Δ" }))),
         el("tbody", {}, ...rows)))));
@@ -149,7 +149,15 @@ function place(result, base, where, label) {
     from);
 }
 
-function card(result, i, onApply) {
+// Cautions every available remedy carries are shown once for all; a card
+// carries only the cautions that differ.
+function commonCautions(section) {
+  const lists = section.options.filter((o) => o.available && Array.isArray(o.cautions)).map((o) => new Set(o.cautions));
+  if (!lists.length) return new Set();
+  return new Set([...lists[0]].filter((text) => lists.every((set) => set.has(text))));
+}
+
+function card(result, i, onApply, common = new Set()) {
   const base = `remedies.options.${i}`;
   const option = result.remedies.options[i];
   const headingId = `zrem-${option.id}`;
@@ -171,7 +179,8 @@ function card(result, i, onApply) {
   node.append(
     el("div", { class: "zplaces" }, place(result, base, "distance", "At distance"),
       place(result, base, "near", "At the reading point")),
-    el("p", { class: "zsummary" }, fig(result, `${base}.summary`)));
+    el("p", { class: "zsummary" }, fig(result, `${base}.summary`)),
+    ...orderLineNodes(result, base, option));
   const details = (DETAILS[option.id] || detailsGeneric)(result, base, option);
   for (const part of [].concat(details || [])) if (part) node.append(part);
   if (option.changes && option.changes.length) {
@@ -182,9 +191,10 @@ function card(result, i, onApply) {
       el("li", {}, el("span", { class: "zwarn-mark", "aria-hidden": "true", text: "⚠" }),
         el("span", { class: "visually-hidden", text: "Warning: " }), fig(result, `${base}.warnings.${k}`)))));
   }
-  if (option.cautions && option.cautions.length) {
-    node.append(el("ul", { class: "zcautions", "aria-label": "Cautions" },
-      ...option.cautions.map((_, k) => el("li", {}, fig(result, `${base}.cautions.${k}`)))));
+  const own = (option.cautions || []).map((text, k) => [text, k]).filter(([text]) => !common.has(text));
+  if (own.length) {
+    node.append(el("ul", { class: "zcautions", "aria-label": "Cautions for this remedy" },
+      ...own.map(([, k]) => el("li", {}, fig(result, `${base}.cautions.${k}`)))));
   }
   if (option.applied_case && option.id !== "none") {
     const button = el("button", { type: "button", class: "zapply", "data-apply": option.id,
@@ -193,6 +203,13 @@ function card(result, i, onApply) {
     node.append(button);
   }
   return node;
+}
+
+// The core's order lines, when it gives them (one per lens affected).
+function orderLineNodes(result, base, option) {
+  if (!Array.isArray(option.order_lines) || !option.order_lines.length) return [];
+  return [el("p", { class: "zorder" }, el("strong", { text: "Order: " }),
+    ...option.order_lines.flatMap((_, k) => [k ? el("br") : null, fig(result, `${base}.order_lines.${k}`)]))];
 }
 
 // All options at a glance: what each leaves at distance and at the reading point.
@@ -211,7 +228,7 @@ function glance(result) {
     }
     return el("tr", { class: option.recommended ? "is-suggested" : null }, head, cell(base, "distance"), cell(base, "near"));
   });
-  return el("div", { class: "ztable-scroll" }, el("table", { class: "zglance" },
+  return el("div", { class: "ztable-scroll", role: "region", "aria-label": "Remedies at a glance", tabindex: "0" }, el("table", { class: "zglance" },
     el("caption", { text: "Net vertical prism, Δ: + base up before the right eye, − before the left. ★ suggested." }),
     el("thead", {}, el("tr", {}, el("th", { scope: "col", text: "Remedy" }), el("th", { scope: "col", text: "Distance" }),
       el("th", { scope: "col", text: "Reading point" }))),
@@ -228,7 +245,8 @@ export function renderRemedies(result, { onApply }) {
   const pick = el("p", { class: "zpick" }, el("strong", { text: "Suggested: " }),
     suggested >= 0 ? fig(result, `remedies.options.${suggested}.name`) : fig(result, "remedies.recommended"),
     " – a suggestion; the choice is the practitioner's.");
-  const list = el("ol", { class: "zcards" }, ...section.options.map((_, i) => card(result, i, onApply)));
+  const common = commonCautions(section);
+  const list = el("ol", { class: "zcards" }, ...section.options.map((_, i) => card(result, i, onApply, common)));
   const cautions = el("ul", { class: "zcautions zall" }, ...(section.cautions || []).map((_, k) =>
     el("li", {}, fig(result, `remedies.cautions.${k}`))));
   return el("section", { class: "zremedies", id: "zone-remedies", "aria-labelledby": "h-remedies" },

@@ -80,7 +80,22 @@ function partsTable(result, base) {
     el("summary", { text: "Where the prism comes from" }), table);
 }
 
+// A point where neither eye has any prism folds into one line.
+function isZeroPoint(point) {
+  const zero = (v) => typeof v === "number" && Math.abs(v) < 0.005;
+  return zero(point.right.amount) && zero(point.left.amount) && zero(point.net.vertical_base_up_right) &&
+    zero(point.net.horizontal_base_in);
+}
+
 function pointCard(result, i) {
+  const card = fullPointCard(result, i);
+  if (!isZeroPoint(result.points[i])) return card;
+  return el("details", { class: "point-zero", "data-remember": `points.${i}.zero` },
+    el("summary", {}, el("span", { class: "point-zero-name" }, fig(result, `points.${i}.name`, null, "name")),
+      ": no prism before either eye"), card);
+}
+
+function fullPointCard(result, i) {
   const base = `points.${i}`;
   const point = result.points[i];
   const position = (eye) => {
@@ -201,6 +216,15 @@ function genericBlock(result, key) {
 // reading_zone and remedies are drawn by zone.js.
 const KNOWN = new Set(["points", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
 
+// The folded sections of the results, in their fixed order.
+export const SECTIONS = [
+  ["sec-points", "Figures at each point of gaze, each eye"],
+  ["sec-map", "The map and the lenses"],
+  ["sec-remedies", "Remedies side by side"],
+  ["sec-errors", "Fitting errors"],
+  ["sec-sources", "Sources"],
+];
+
 export function renderResult(container, result) {
   // Sections the user opened stay open across recomputes.
   const open = new Set([...container.querySelectorAll("details[open][data-remember]")].map((d) => d.dataset.remember));
@@ -210,7 +234,10 @@ export function renderResult(container, result) {
     el("h3", { id: "h-derived-lens", text: "Lenses" }),
     el("div", { class: "eyes-pair" }, lensBlock(result, "right"), lensBlock(result, "left")));
   const more = Object.keys(result).filter((k) => !KNOWN.has(k) && result[k] !== null).map((k) => genericBlock(result, k));
-  container.replaceChildren(points, el("div", { class: "derived-all" }, lenses, fittingBlock(result), frameBlock(result), ...more));
+  const sections = SECTIONS.map(([id, title]) => el("details", { class: "sec", id, "data-remember": id },
+    el("summary", {}, el("h3", { class: "sec-title", text: title }))));
+  sections[0].append(points, el("div", { class: "derived-all" }, lenses, fittingBlock(result), frameBlock(result), ...more));
+  container.replaceChildren(...sections);
   for (const details of container.querySelectorAll("details[data-remember]")) {
     if (open.has(details.dataset.remember)) details.open = true;
   }
@@ -221,51 +248,97 @@ export function renderCautions(list, result) {
     el("li", {}, fig(result, `cautions.${i}`, null, "caution"))));
 }
 
-// Transposed forms next to the prescription inputs.
-export function renderTransposed(dl, result) {
-  dl.replaceChildren(...["right", "left"].map((eye) => el("div", { class: "row" },
-    el("dt", { text: (eye === "right" ? "R" : "L") + " transposed" }),
-    el("dd", {}, fig(result, `eyes.${eye}.transposed_written`)))));
+// The transposed form under each eye's prescription.
+export function renderTransposed(dl, result, eye) {
+  dl.replaceChildren(el("div", { class: "row" },
+    el("dt", { text: "Transposed" }),
+    el("dd", {}, fig(result, `eyes.${eye}.transposed_written`))));
 }
 
-// A one-page summary for printing: date, inputs, results, cautions.
-export function renderPrintSummary(node, doc, result) {
+// The printout: an order note. The case, the lens design of each eye (type,
+// segment, size, heights), the threshold, the imbalance at distance and at the
+// reading level, the chosen remedy as an order line, the cautions. The lens
+// drawings and the remedies compared follow it (zone.js, #print-zone).
+const KIND = { single_vision: "Single vision", bifocal: "Bifocal", progressive: "Progressive" };
+const SHAPE = { round: "round", flat_top: "flat-top", straight_across: "straight-across" };
+
+function inducedKey(result, base) {
+  return get(result, `${base}.induced_vertical_base_up_right`) !== undefined
+    ? `${base}.induced_vertical_base_up_right` : `${base}.vertical_base_up_right`;
+}
+
+export function renderPrintSummary(node, doc, result, chosen = null) {
+  const given = (value) => (value === undefined || value === null || value === "" ? "–" : String(value));
   const rows = [];
   const line = (label, ...content) => rows.push(el("tr", {}, el("th", { scope: "row", text: label }), el("td", {}, ...content)));
-  const given = (value) => (value === undefined || value === null ? "–" : String(value));
+  const zone = result.reading_zone;
   for (const eye of ["right", "left"]) {
     const p = `eyes.${eye}`;
-    line(EYE_WORDS[eye], fig(result, p + ".written"), " (transposed ", fig(result, p + ".transposed_written"), ")",
-      result.eyes[eye].add ? ", add " : "", result.eyes[eye].add ? fig(result, p + ".add", dioptres) : null,
-      "; prism: ", fig(result, p + ".prism.in_words"));
-  }
-  if (result.fitting && doc.fitting) {
-    const f = doc.fitting;
-    line("Fitting", `PD R ${given(f.right?.mono_pd_mm)} / L ${given(f.left?.mono_pd_mm)} mm; ` +
-      `heights R ${given(f.right?.height_mm)} / L ${given(f.left?.height_mm)} mm; working distance `,
-      fig(result, "fitting.working_distance_mm", mm), "; centre of rotation ",
-      fig(result, "fitting.centre_of_rotation_mm", mm), "; reading depth ", fig(result, "fitting.reading_depth_mm", mm));
+    const lens = doc[eye] || {};
+    const fit = (doc.fitting || {})[eye] || {};
+    const design = zone && zone.designs ? zone.designs[eye] : null;
+    const d = `reading_zone.designs.${eye}`;
+    const parts = [fig(result, p + ".written"),
+      result.eyes[eye].add ? el("span", {}, ", add ", fig(result, p + ".add", dioptres)) : null,
+      "; prism: ", fig(result, p + ".prism.in_words"), el("br"),
+      design ? fig(result, `${d}.kind`, (v) => KIND[v] || v) : "Single vision"];
+    if (design && design.kind === "bifocal") {
+      parts.push(", ", design.shape ? fig(result, `${d}.shape`, (v) => SHAPE[v] || v) : "segment",
+        design.size_mm != null ? el("span", {}, " ", fig(result, `${d}.size_mm`, (v) => fixed(0)(v))) : null,
+        ", segment top ", fig(result, `${d}.top_mm`, (v) => `${fixed(1)(Math.abs(v))} mm ${v < 0 ? "below" : "above"} the distance reference point`));
+      if (lens.segment && lens.segment.height_mm !== undefined) parts.push(` (segment height ${given(lens.segment.height_mm)} mm)`);
+    } else if (design && design.kind === "progressive") {
+      parts.push(", corridor ", fig(result, `${d}.corridor_mm`, mm));
+    }
+    parts.push(`; PD ${given(fit.mono_pd_mm)} mm`, fit.height_mm !== undefined ? `, fitting height ${given(fit.height_mm)} mm` : "");
+    if (lens.slab_off) parts.push(`; slab-off ${given(lens.slab_off.base_up)} Δ, line ${given(lens.slab_off.line_mm)} mm`);
+    line(EYE_WORDS[eye], ...parts);
   }
   if (doc.frame) {
-    line("Frame", `A ${given(doc.frame.a_mm)}, DBL ${given(doc.frame.dbl_mm)}, ED ${given(doc.frame.ed_mm)}, ` +
-      `B ${given(doc.frame.b_mm)} mm`);
+    line("Frame", `A ${given(doc.frame.a_mm)}, B ${given(doc.frame.b_mm)}, DBL ${given(doc.frame.dbl_mm)}, ` +
+      `ED ${given(doc.frame.ed_mm)} mm`);
+  }
+  if (zone) {
+    const z = "reading_zone";
+    line("Threshold", fig(result, `${z}.threshold.vertical`, prismAmount), " vertical imbalance");
+    line("At distance", fig(result, inducedKey(result, `${z}.at_distance`), netVertical));
+    line("At the reading level", fig(result, inducedKey(result, `${z}.at_reading_point`), netVertical), ", ",
+      fig(result, `${z}.geometry.reading_drop_mm`, mm), " down; ",
+      zone.over_threshold_at_reading_point ? "over the threshold" : "within the threshold");
+  }
+  const section = result.remedies;
+  if (section) {
+    const id = chosen ? chosen.id : section.recommended;
+    const i = section.options.findIndex((o) => o.id === id);
+    const option = section.options[i];
+    const base = `remedies.options.${i}`;
+    const order = chosen
+      ? [el("span", { text: `Applied: ${chosen.name}; the lenses above are the finished case.` })]
+      : i < 0 || id === "none" ? [el("span", { "data-key": "remedies.recommended", "data-value": String(section.recommended),
+        text: "No remedy: none suggested." })]
+        : [el("span", { "data-key": "remedies.recommended", "data-value": String(id) }, fig(result, `${base}.name`)), ": ",
+          ...(Array.isArray(option.order_lines) && option.order_lines.length
+            ? option.order_lines.flatMap((_, k) => [k ? el("br") : null, fig(result, `${base}.order_lines.${k}`)])
+            : [fig(result, `${base}.summary`)])];
+    line(chosen ? "Remedy (applied)" : "Remedy (suggested)", ...order);
   }
   const pointRows = result.points.map((_, i) => {
     const p = `points.${i}`;
     return el("tr", {},
       el("th", { scope: "row" }, fig(result, p + ".name")),
-      el("td", {}, fig(result, p + ".right.in_words"), " (", fig(result, p + ".right.in_360_words"), ")"),
-      el("td", {}, fig(result, p + ".left.in_words"), " (", fig(result, p + ".left.in_360_words"), ")"),
+      el("td", {}, fig(result, p + ".right.in_words")),
+      el("td", {}, fig(result, p + ".left.in_words")),
       el("td", {}, fig(result, p + ".net.vertical_in_words"), "; ", fig(result, p + ".net.horizontal_in_words")));
   });
+  const cautions = [...(result.cautions || []).map((_, i) => el("li", {}, fig(result, `cautions.${i}`))),
+    ...((section && section.cautions) || []).map((_, i) => el("li", {}, fig(result, `remedies.cautions.${i}`)))];
   node.replaceChildren(
-    el("h1", { text: "Prism Desk – case summary" }),
-    el("p", { class: "our-caution", text: "A check aid: verify every figure by measurement and against the standards " +
-      "in force where you work. Clinical decisions belong to licensed practitioners." }),
-    el("p", { text: (doc.name ? doc.name + " · " : "") + "Printed " + new Date().toLocaleString() }),
+    el("h1", { text: "Order note" + (doc.name ? " – " + doc.name : "") }),
+    el("p", { text: "Prism Desk · printed " + new Date().toLocaleString() }),
     el("table", { class: "print-inputs" }, el("tbody", {}, ...rows)),
     el("table", { class: "print-results" },
       el("thead", {}, el("tr", {}, ...["Point of gaze", "Right eye", "Left eye", "Between the eyes"].map((t) => el("th", { scope: "col", text: t })))),
       el("tbody", {}, ...pointRows)),
-    el("ul", {}, ...(result.cautions || []).map((_, i) => el("li", {}, fig(result, `cautions.${i}`)))));
+    el("h2", { class: "print-cautions-title", text: "Cautions" }),
+    el("ul", { class: "print-cautions" }, ...cautions));
 }

@@ -11,13 +11,19 @@ import { el } from "./zone-common.js";
 const EYES = ["right", "left"];
 
 // Segment keys: the size goes to diameter_mm (round) or width_mm (flat-top).
-const SEGMENT_KEYS = ["shape", "diameter_mm", "width_mm", "top_mm", "optical_centre_below_top_mm",
+const SEGMENT_KEYS = ["shape", "diameter_mm", "width_mm", "top_mm", "height_mm", "optical_centre_below_top_mm",
   "optical_centre_in_mm"];
+// Segment heights: as on an order form (segment.height_mm, above the lowest point
+// of the lens shape), or from the distance reference point (segment.top_mm).
+const HEIGHTS_FROM = [["lens_bottom", "The lowest point of the lens shape (as on an order)"],
+  ["reference_point", "The distance reference point"]];
 const PROGRESSIVE_KEYS = ["prism_reference_below_cross_mm", "near_depth_mm", "near_inset_mm",
   "thinning_prism_base_down"];
 const SLAB_KEYS = ["base_up", "line_mm"];
 const ZONE_TEXT = ["reading_point", "worn_as"];
-const ZONE_NUMBERS = ["reading_depth_mm", "below_segment_top_mm", "threshold", "correct_fraction",
+// The reading depth is the fitting's (one field, in the Fitting panel); a
+// reading_zone.reading_depth_mm from a file is kept as given.
+const ZONE_NUMBERS = ["below_segment_top_mm", "threshold", "correct_fraction",
   "lab_step", "lower_centres_mm", "map_depth_mm", "map_half_width_mm", "map_step_mm"];
 
 // Words for the paths of this part, for messages next to the fields (form.js pathInWords).
@@ -83,9 +89,9 @@ export class ZoneFormPart {
       }
       grid.append(wrap);
     };
-    const number = (path, id, placeholder) => {
-      const input = el("input", { id, "data-path": path, inputmode: "decimal", autocomplete: "off",
-        placeholder: placeholder || null });
+    // No placeholders: a grey word in a field reads like a value, and would be refused.
+    const number = (path, id) => {
+      const input = el("input", { id, "data-path": path, inputmode: "decimal", autocomplete: "off" });
       this.fields.set(path, input);
       return input;
     };
@@ -104,20 +110,20 @@ export class ZoneFormPart {
       input.dataset.path = `${eye}.segment.diameter_mm`;
       return input;
     }, "sized");
-    row("top", "Segment top", "mm; below is negative", (eye) =>
-      number(`${eye}.segment.top_mm`, `${eye}-seg-top`), "bifocal");
+    row("top", "Segment height", "mm above the lowest point of the lens shape", (eye) =>
+      number(`${eye}.segment.top`, `${eye}-seg-top`), "bifocal");
     row("ocbelow", "Segment optical centre below the top", "mm, optional: overrides the usual rule", (eye) =>
-      number(`${eye}.segment.optical_centre_below_top_mm`, `${eye}-seg-oc-below`, "usual rule"), "bifocal");
+      number(`${eye}.segment.optical_centre_below_top_mm`, `${eye}-seg-oc-below`), "bifocal");
     row("ocin", "Segment optical centre in", "mm, optional", (eye) =>
-      number(`${eye}.segment.optical_centre_in_mm`, `${eye}-seg-oc-in`, "0"), "bifocal");
+      number(`${eye}.segment.optical_centre_in_mm`, `${eye}-seg-oc-in`), "bifocal");
     row("prp", "Fitting cross above the PRP", "mm", (eye) =>
-      number(`${eye}.progressive.prism_reference_below_cross_mm`, `${eye}-prog-prp`, "default"), "progressive");
+      number(`${eye}.progressive.prism_reference_below_cross_mm`, `${eye}-prog-prp`), "progressive");
     row("neardepth", "Near depth", "mm below the fitting cross", (eye) =>
-      number(`${eye}.progressive.near_depth_mm`, `${eye}-prog-near-depth`, "default"), "progressive");
+      number(`${eye}.progressive.near_depth_mm`, `${eye}-prog-near-depth`), "progressive");
     row("nearinset", "Near inset", "mm toward the nose", (eye) =>
-      number(`${eye}.progressive.near_inset_mm`, `${eye}-prog-near-inset`, "default"), "progressive");
+      number(`${eye}.progressive.near_inset_mm`, `${eye}-prog-near-inset`), "progressive");
     row("thinning", "Thinning prism", "Δ base down, optional", (eye) =>
-      number(`${eye}.progressive.thinning_prism_base_down`, `${eye}-prog-thinning`, "none"), "progressive");
+      number(`${eye}.progressive.thinning_prism_base_down`, `${eye}-prog-thinning`), "progressive");
     row("slab", "Slab-off", "Δ base up below the line; negative: reverse slab; optional", (eye) =>
       number(`${eye}.slab_off.base_up`, `${eye}-slab-base`));
     row("slabline", "Slab line", "mm; below is negative", (eye) =>
@@ -135,43 +141,51 @@ export class ZoneFormPart {
         el("label", { for: id }, label, hint ? " " : null, hint ? el("small", { text: hint }) : null), control);
       return node;
     };
-    const numberField = (key, label, hint, placeholder) => field(`reading_zone.${key}`, "rz-" + key.replace(/_/g, "-"),
-      label, hint, el("input", { inputmode: "decimal", autocomplete: "off", placeholder: placeholder || null }));
+    const numberField = (key, label, hint) => field(`reading_zone.${key}`, "rz-" + key.replace(/_/g, "-"),
+      label, hint, el("input", { inputmode: "decimal", autocomplete: "off" }));
     const inUse = (key) => el("p", { class: "zin-use", id: `rz-${key}-in-use`, "data-in-use": key });
 
-    const threshold = numberField("threshold", "Vertical imbalance threshold", "Δ", "rule of thumb");
+    const threshold = numberField("threshold", "Vertical imbalance threshold", "Δ; empty: the usual rule of thumb");
     threshold.append(inUse("threshold"));
-    const fraction = numberField("correct_fraction", "Slab-off corrects", "fraction of the reading-point imbalance, 0.25–1", "all");
+    const fraction = numberField("correct_fraction", "Slab-off corrects", "fraction of the reading-point imbalance, 0.25–1; empty: all");
     fraction.append(inUse("correct_fraction"));
-    const step = numberField("lab_step", "Laboratory step", "Δ", "lab's step");
+    const step = numberField("lab_step", "Laboratory step", "Δ; empty: the usual step");
     step.append(inUse("lab_step"));
-    const lower = numberField("lower_centres_mm", "Lower both centres by", "mm, for the lowered-centres remedy", "balance");
+    const lower = numberField("lower_centres_mm", "Lower both centres by", "mm, for the lowered-centres remedy; empty: to balance");
     lower.append(inUse("lower_centres_mm"));
 
     const rule = field("reading_zone.reading_point", "rz-reading-point", "Reading point",
       "automatic: a progressive's near point, else a depth below the distance reference point", select("", RULES));
-    const depth = numberField("reading_depth_mm", "Reading depth", "mm below the distance reference point", "fitting's");
-    depth.dataset.show = "depth";
-    const belowTops = numberField("below_segment_top_mm", "Depth below the segment tops", "mm", "default");
+    const belowTops = numberField("below_segment_top_mm", "Depth below the segment tops", "mm; empty: the usual");
     belowTops.dataset.show = "tops";
     const worn = field("reading_zone.worn_as", "rz-worn-as", "Worn as", null, select("", WORN));
 
     const map = el("details", { class: "zmore", "data-remember": "zone-map-extent" },
       el("summary", { text: "Map extent" }),
       el("div", { class: "fields" },
-        numberField("map_depth_mm", "Map depth", "mm down", "auto"),
-        numberField("map_half_width_mm", "Map half width", "mm each side", "default"),
-        numberField("map_step_mm", "Map step", "mm", "default")));
+        numberField("map_depth_mm", "Map depth", "mm down; empty: automatic"),
+        numberField("map_half_width_mm", "Map half width", "mm each side; empty: the usual"),
+        numberField("map_step_mm", "Map step", "mm; empty: the usual")));
 
     return el("section", { class: "panel zone-inputs", id: "zone-inputs", "aria-labelledby": "h-design" },
       el("h2", { id: "h-design", text: "Lens design and reading zone" }),
-      el("p", { class: "hint", text: "Heights in mm from each eye's distance reference point (for a " +
-        "progressive, its prism reference point, PRP); up positive, so a segment top 4 mm below is −4." }),
+      el("p", { class: "hint", text: "Fitting and segment heights as on an order: mm above the lowest point of the " +
+        "lens shape. Or choose the distance reference point: then a segment top 4 mm below it is −4. Other heights " +
+        "here are from each eye's distance reference point (a progressive's: its prism reference point, PRP)." }),
+      el("div", { class: "field zheights" }, el("label", { for: "seg-heights-from" }, "Segment heights measured from"),
+        this.heightsFrom()),
       grid, copy,
       el("h3", { class: "zsub", id: "h-zone-options", text: "Reading point and remedies" }),
       el("div", { class: "fields zfields", role: "group", "aria-labelledby": "h-zone-options" },
-        rule, depth, belowTops, worn, threshold, fraction, step, lower),
+        rule, belowTops, worn, threshold, fraction, step, lower),
       map);
+  }
+
+  heightsFrom() {
+    const node = select("seg-heights-from", HEIGHTS_FROM);
+    node.addEventListener("change", () => this.sync());
+    this.mode = node;
+    return node;
   }
 
   // ------------------------------------------------------------------ visibility
@@ -194,6 +208,14 @@ export class ZoneFormPart {
         cell.classList.toggle("zoff", !wanted(i));
       });
     }
+    // The height field writes segment.height_mm (from the lens bottom) or top_mm (from the reference point).
+    const fromBottom = this.mode.value === "lens_bottom";
+    const head = this.panel.querySelector("#zrow-top");
+    head.replaceChildren(fromBottom ? "Segment height" : "Segment top", el("small", {
+      text: fromBottom ? "mm above the lowest point of the lens shape" : "mm from the distance reference point; below is negative" }));
+    EYES.forEach((eye) => {
+      this.fields.get(`${eye}.segment.top`).dataset.path = `${eye}.segment.${fromBottom ? "height_mm" : "top_mm"}`;
+    });
     // The size field writes diameter_mm for a round segment, width_mm for a flat-top.
     EYES.forEach((eye, i) => {
       this.fields.get(`${eye}.segment.size`).dataset.path = `${eye}.segment.${shapes[i] === "flat_top" ? "width_mm" : "diameter_mm"}`;
@@ -201,8 +223,6 @@ export class ZoneFormPart {
     const rule = this.fields.get("reading_zone.reading_point").value;
     this.panel.querySelector("[data-show='tops']").hidden = rule !== "segment_top" &&
       this.fields.get("reading_zone.below_segment_top_mm").value.trim() === "";
-    this.panel.querySelector("[data-show='depth']").hidden = (rule === "segment_top" || rule === "near_zone") &&
-      this.fields.get("reading_zone.reading_depth_mm").value.trim() === "";
   }
 
   copyRightToLeft() {
@@ -240,12 +260,20 @@ export class ZoneFormPart {
         this.fields.get(`${eye}.segment.shape`).value = known ? shape : "";
         const size = shape === "flat_top" ? segment.width_mm : segment.diameter_mm;
         this.fields.get(`${eye}.segment.size`).value = asText(size);
-        for (const key of ["top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm"]) {
+        if ("height_mm" in segment && !("top_mm" in segment)) {
+          this.mode.value = "lens_bottom";
+          this.fields.get(`${eye}.segment.top`).value = asText(segment.height_mm);
+        } else {
+          if ("top_mm" in segment) this.mode.value = "reference_point";
+          this.fields.get(`${eye}.segment.top`).value = asText(segment.top_mm);
+        }
+        for (const key of ["optical_centre_below_top_mm", "optical_centre_in_mm"]) {
           this.fields.get(`${eye}.segment.${key}`).value = asText(segment[key]);
         }
         const rest = Object.fromEntries(Object.entries(segment).filter(([key]) => !SEGMENT_KEYS.includes(key) ||
           (key === "shape" && !known) || (key === "width_mm" && shape !== "flat_top") ||
-          (key === "diameter_mm" && shape === "flat_top")));
+          (key === "diameter_mm" && shape === "flat_top") ||
+          (key === "height_mm" && "top_mm" in segment)));
         if (Object.keys(rest).length) this.leftover[`${eye}.segment`] = rest;
         taken.push("segment");
       } else if (progressive) {
@@ -316,7 +344,11 @@ export class ZoneFormPart {
         const sizeKey = shape.value === "flat_top" ? "width_mm" : "diameter_mm";
         put(segment, sizeKey, `${eye}.segment.${sizeKey}`, size);
         inputs.set(`${eye}.segment.${sizeKey === "width_mm" ? "diameter_mm" : "width_mm"}`, size);
-        for (const key of ["top_mm", "optical_centre_below_top_mm", "optical_centre_in_mm"]) {
+        const height = this.fields.get(`${eye}.segment.top`);
+        const heightKey = this.mode.value === "lens_bottom" ? "height_mm" : "top_mm";
+        put(segment, heightKey, `${eye}.segment.${heightKey}`, height);
+        inputs.set(`${eye}.segment.${heightKey === "top_mm" ? "height_mm" : "top_mm"}`, height);
+        for (const key of ["optical_centre_below_top_mm", "optical_centre_in_mm"]) {
           put(segment, key, `${eye}.segment.${key}`, this.fields.get(`${eye}.segment.${key}`));
         }
         lens.segment = { ...segment, ...(this.leftover[`${eye}.segment`] || {}) };

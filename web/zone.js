@@ -12,6 +12,7 @@ import {
 import { ZONE_PATH_WORDS, ZoneFormPart } from "./zone-form.js";
 import { drawMap, drawScale } from "./zone-map.js";
 import { printRemedies, renderRemedies } from "./remedies.js";
+import { lensDrawings } from "./zone-lens.js";
 
 const RULE_WORDS = {
   distance_reference: "a depth below the distance reference point",
@@ -58,7 +59,6 @@ function keyFigures(result) {
       el("div", { class: "zkey-card zkey-threshold" }, el("h4", { text: "Threshold (vertical)" }),
         el("p", { class: "zkey-v" }, fig(result, `${z}.threshold.vertical`, prism)),
         el("p", { class: "zkey-h" }, "Reached: ", reached))),
-    el("p", { class: "zsource" }, "Threshold: ", fig(result, `${z}.threshold.source`, null, "zplain")),
     el("dl", { class: "facts zfacts" },
       factRow("Reading point", fig(result, `${geometry}.rule`, (v) => RULE_WORDS[v] || v), ": ", point("right"), " · ",
         point("left"), " mm from each reference point"),
@@ -305,8 +305,8 @@ function sensitivityBlock(result) {
       el("td", {}, fig(result, `${p}.nominal.near.vertical_base_up_right`, signed)),
       el("td", {}, fig(result, `${p}.nominal.near.horizontal_base_in`, signed)))),
     ...groups);
-  return el("details", { class: "zmore zsens-box", "data-remember": "zone-sensitivity" },
-    el("summary", { text: "Fitting errors: what 1 or 2 mm would change" }),
+  return el("div", { class: "zsens-box" },
+    el("h4", { text: "What 1 or 2 mm of fitting error would change" }),
     el("p", { class: "zhint", text: "Too high: the lens sits higher, so the eye looks lower on it. Too far out: the lens is " +
       "centred too far from the nose (monocular PD too large). Vertical: + is more base up before the right eye; " +
       "horizontal: + is more base in." }),
@@ -315,24 +315,32 @@ function sensitivityBlock(result) {
 }
 
 // ---------------------------------------------------------------- print
-function printBlock(result) {
+function printBlock(result, doc) {
   const zone = result.reading_zone;
-  const nodes = [el("h2", { class: "print-zone-title", text: "Reading zone" })];
-  const sentence = summary(result, "vertical");
-  nodes.push(el("p", {}, sentence.node));
-  const map = drawMap(zone, "vertical");
-  map.setAttribute("role", "img");
-  map.setAttribute("aria-label", sentence.text);
-  nodes.push(el("div", { class: "print-zone-map" }, map,
-    el("p", { class: "print-zone-key", text: "Orange: base up before the right eye; blue: before the left; darker is more. " +
-      "Thick line: the threshold; hatched: at or over it (/ right, \\ left). Ring: the reading point. Wearer's view, " +
-      "drop downward." })));
+  const nodes = [el("h2", { class: "print-zone-title", text: "The lenses, to scale" }), lensDrawings(result, doc, "print-lens")];
   const remedies = printRemedies(result);
-  if (remedies) nodes.push(remedies);
+  if (remedies) nodes.push(el("h2", { class: "print-zone-title", text: "Remedies compared" }), remedies);
   if ((zone.warnings || []).length) {
-    nodes.push(el("ul", {}, ...zone.warnings.map((_, i) => el("li", {}, fig(result, `reading_zone.warnings.${i}`)))));
+    nodes.push(el("ul", { class: "print-warnings" }, ...zone.warnings.map((_, i) => el("li", {}, fig(result, `reading_zone.warnings.${i}`)))));
   }
   return el("section", { class: "print-zone" }, ...nodes);
+}
+
+// Where the sources of the figures are given, in one place.
+function sourcesBlock(result) {
+  const zone = result.reading_zone;
+  const items = [el("li", {}, "Vertical imbalance threshold: ", fig(result, "reading_zone.threshold.source"))];
+  if (zone.image_jump && zone.image_jump.source) items.push(el("li", {}, "Image jump: ", fig(result, "reading_zone.image_jump.source")));
+  for (const eye of ["right", "left"]) {
+    const design = zone.designs && zone.designs[eye];
+    if (design && design.optical_centre_rule) {
+      items.push(el("li", {}, `${EYE_WORDS[eye]} segment optical centre: `, fig(result, `reading_zone.designs.${eye}.optical_centre_rule`)));
+    }
+  }
+  if (zone.thinning_prism && zone.thinning_prism.source) {
+    items.push(el("li", {}, "Thinning prism: ", fig(result, "reading_zone.thinning_prism.source")));
+  }
+  return el("ul", { class: "zsources" }, ...items);
 }
 
 // ---------------------------------------------------------------- wiring
@@ -376,10 +384,11 @@ export function setUpZone(host) {
       return;
     }
     const { doc } = host.caseForm.collect();
-    state.previous = { doc, name: option.name, id: option.id };
+    state.previous = { doc, name: option.name, id: option.id, typed: host.typed() };
     state.focusBanner = true;
     showBanner();
-    host.loadCase(structuredClone(option.applied_case), `Applied ${option.name}; “Back to the case before” undoes it.`);
+    host.loadCase(structuredClone(option.applied_case), `Applied ${option.name}; “Back to the case before” undoes it.`,
+      { push: true });
     banner.focus();
   }
 
@@ -387,31 +396,37 @@ export function setUpZone(host) {
     const prev = state.previous;
     if (!prev) return;
     forget();
-    host.loadCase(prev.doc, `Back to the case before: ${prev.name.toLowerCase()} taken out.`);
+    host.loadCase(prev.doc, `Back to the case before: ${prev.name.toLowerCase()} taken out.`, { typed: prev.typed });
     host.results.focus();
   }
 
   function render(result, refocus) {
     state.last = result;
     const body = host.body;
-    body.querySelector("#zone-section")?.remove();
-    body.querySelector("#zone-remedies")?.remove();
     showInUse(result);
+    const sec = (id) => body.querySelector("#" + id);
+    for (const id of ["sec-map", "sec-remedies", "sec-errors", "sec-sources"]) {
+      const node = sec(id);
+      if (node) node.hidden = !result.reading_zone;
+    }
     if (!result.reading_zone) return;
     const rerender = (selector) => render(state.last, selector);
-    const section = el("section", { class: "zone", id: "zone-section", "aria-labelledby": "h-zone" },
-      el("h3", { id: "h-zone", text: "Reading zone" }),
+    const section = el("section", { class: "zone", id: "zone-section", "aria-label": "Reading zone" },
       ...keyFigures(result),
       mapFigure(result, state, rerender),
-      el("div", { class: "zblock" }, el("h4", { text: "Lens designs" }),
+      el("div", { class: "zblock" }, el("h4", { text: "Lens designs" }), lensDrawings(result, state.doc || {}),
         el("div", { class: "zeyes" }, designBlock(result, "right"), designBlock(result, "left"))),
-      jumpBlock(result), thinningBlock(result), warningsBlock(result), sensitivityBlock(result));
+      jumpBlock(result), thinningBlock(result), warningsBlock(result));
+    sec("sec-map").querySelector("#zone-section")?.remove();
+    sec("sec-map").append(section);
     const remedies = renderRemedies(result, { onApply: apply });
-    // After the points of gaze, before the derived sections.
-    const points = body.querySelector(".points");
-    if (points) points.after(section);
-    else body.append(section);
-    if (remedies) section.after(remedies);
+    sec("sec-remedies").querySelector("#zone-remedies")?.remove();
+    if (remedies) sec("sec-remedies").append(remedies);
+    else sec("sec-remedies").hidden = true;
+    const errors = sensitivityBlock(result);
+    if (errors) sec("sec-errors").append(errors);
+    else sec("sec-errors").hidden = true;
+    sec("sec-sources").append(sourcesBlock(result));
     for (const details of body.querySelectorAll("#zone-section details[data-remember], #zone-remedies details[data-remember]")) {
       if (state.open && state.open.has(details.dataset.remember)) details.open = true;
       details.addEventListener("toggle", () => {
@@ -451,11 +466,15 @@ export function setUpZone(host) {
   (document.getElementById("print-summary") || document.body.lastElementChild).after(printNode);
   window.addEventListener("beforeprint", () => {
     const result = state.last;
-    printNode.replaceChildren(...(result && result.reading_zone ? [printBlock(result)] : []));
+    printNode.replaceChildren(...(result && result.reading_zone ? [printBlock(result, state.doc || {})] : []));
   });
 
   return {
-    render(result) {
+    apply,
+    // The remedy applied to this case (for the printed order note), else null.
+    chosen: () => (state.previous ? { id: state.previous.id, name: state.previous.name } : null),
+    render(result, doc) {
+      state.doc = doc;
       render(result);
       if (state.focusBanner) {
         state.focusBanner = false;
