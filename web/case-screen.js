@@ -124,7 +124,12 @@ export function setUpCaseScreen(host) {
     for (let i = 0; i < MAX_MARKED - 1 && error.field && inputFor(error.field, inputs); i++) {
       if (!dropPath(probe, error.field)) break;
       let reply = await messenger.request("evaluate", probe);
-      if (!reply.ok && reply.error.field === error.field && setPath(probe, error.field, 0)) {
+      // A field that must be given: stand in the other eye's value, then a few
+      // plain values, until the core moves on to the next bad field.
+      for (const stand of standIns(doc, error.field)) {
+        const same = !reply.ok && (reply.error.field === error.field
+          || error.field.startsWith(`${reply.error.field}.`));
+        if (!same || !setPath(probe, error.field, stand)) break;
         reply = await messenger.request("evaluate", probe);
       }
       if (reply.ok || !reply.error.field || seen.has(reply.error.field)) break;
@@ -369,6 +374,21 @@ export function setUpCaseScreen(host) {
 // ---------------------------------------------------------------- paths in a case document
 function parts(path) {
   return path.split(".").map((p) => (/^\d+$/.test(p) ? Number(p) : p));
+}
+
+function standIns(doc, path) {
+  const other = path.replace(/\b(right|left)\b/, (eye) => (eye === "right" ? "left" : "right"));
+  const mirrored = other !== path ? getPath(doc, other) : undefined;
+  return [...(typeof mirrored === "number" ? [mirrored] : []), 0, 1, 32, 400];
+}
+
+function getPath(doc, path) {
+  let node = doc;
+  for (const key of parts(path)) {
+    if (!node || typeof node !== "object") return undefined;
+    node = node[key];
+  }
+  return node;
 }
 
 function dropPath(doc, path) {

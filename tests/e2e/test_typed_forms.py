@@ -123,6 +123,9 @@ def test_written_form_typed(tpage, field, text):
 
 def test_several_bad_fields_marked_at_once(tpage):
     page = tpage
+    for selector, value in (("#right-rx", ""), ("#left-sphere", "+1.00"), ("#right-pd", "32")):
+        if page.input_value(selector) != value:
+            retype(page, selector, value)
     retype(page, "#right-sphere", "+1.00")
     retype(page, "#right-axis", "400")
     retype(page, "#left-pd", "abc")
