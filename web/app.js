@@ -5,11 +5,14 @@ import { CaseForm, pathInWords } from "./form.js";
 import { el, renderCautions, renderPrintSummary, renderResult, renderTransposed } from "./results.js";
 import * as store from "./store.js";
 import { setUpZone } from "./zone.js";
+import { readDocument, wrongKind } from "./documents.js";
 
 const DEBOUNCE_MS = 150;
 const $ = (selector) => document.querySelector(selector);
 
 const boot = self.prismBoot || { worker: null, early: [], error: "boot.js did not run" };
+// Before anything is written: an unreadable store is kept aside, an older one upgraded.
+const storage = store.openStorage();
 const engineLine = $("#engine");
 const results = $("#results");
 const statusLine = $("#result-status");
@@ -21,6 +24,8 @@ export const messenger = new Messenger(boot.worker, {
   earlyError: boot.error,
   onEvent: (msg) => {
     if (msg.event === "failed") engineFailed(msg.error);
+    if (msg.event === "stopped") engineStopped(msg.error);
+    if (msg.event === "progress") downloadProgress(msg);
     if (msg.event === "timings") self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
   },
 });
@@ -42,16 +47,89 @@ function drawPrintSummary() {
 window.addEventListener("beforeprint", drawPrintSummary);
 
 // ---------------------------------------------------------------- engine status
-messenger.ready.then((msg) => {
-  self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
-  document.body.dataset.engineStart = msg.start || "boot";
-  engineLine.dataset.state = "ready";
-  engineLine.textContent = "Calculator ready" + (msg.version ? " · core " + msg.version.version : "");
-}, () => {});
+function whenReady() {
+  messenger.ready.then((msg) => {
+    self.prismEngineTimings = msg.timings; // read by bench/web_bench.py
+    document.body.dataset.engineStart = msg.start || "boot";
+    engineLine.dataset.state = "ready";
+    engineLine.textContent = "Calculator ready" + (msg.version ? " · core " + msg.version.version : "");
+    engineAction(null);
+    downloads.clear();
+    $("#first-visit")?.remove();
+  }, () => {});
+}
+whenReady();
+
+// A button beside the engine line in the header (Reload or Restart), or none.
+function engineAction(label, run) {
+  $("#engine-action")?.remove();
+  if (!label) return;
+  const button = el("button", { type: "button", id: "engine-action", class: "engine-action", text: label });
+  button.addEventListener("click", run);
+  engineLine.after(button);
+}
+
+// First visit: what is being fetched and how much is left (the worker's progress events).
+const downloads = new Map(); // file -> {what, loaded, total}
+let progressShownAt = 0;
+function downloadProgress(msg) {
+  if (messenger.state !== "starting") return;
+  downloads.set(msg.file, msg);
+  if (!progressShownAt) progressShownAt = performance.now();
+  let left = 0;
+  let total = 0;
+  for (const d of downloads.values()) {
+    left += Math.max(0, d.total - d.loaded);
+    total += d.total;
+  }
+  // Files already on the device arrive at once; show the line only for a real download.
+  if (performance.now() - progressShownAt < 300 && left > 0 && !$("#first-visit")) return;
+  const mb = (n) => (n / 1048576).toFixed(1);
+  const current = [...downloads.values()].find((d) => d.loaded < d.total) || msg;
+  let line = $("#first-visit");
+  if (!line) {
+    line = el("div", { id: "first-visit", class: "first-visit", role: "status" },
+      el("p", { class: "fetching" }),
+      el("p", { class: "later", text: "The calculator is downloaded once, on this first visit; later visits start in about a second, also offline." }));
+    $(".masthead").after(line);
+  }
+  line.querySelector(".fetching").textContent = left > 0
+    ? `Fetching ${current.what} (${current.file}): ${mb(left)} MB of ${mb(total)} MB left.`
+    : "Downloaded; starting the calculator…";
+  engineLine.textContent = left > 0 ? `Downloading · ${mb(left)} MB left` : "Starting the calculator…";
+}
+
+function engineStopped(error) {
+  engineLine.dataset.state = "stopped";
+  engineLine.textContent = "Calculator stopped";
+  engineAction("Restart", restartEngine);
+  results.dataset.status = "stopped";
+  statusLine.replaceChildren(el("span", { class: "problem", text: error.message }));
+}
+
+function restartEngine() {
+  engineLine.dataset.state = "starting";
+  engineLine.textContent = "Restarting the calculator…";
+  engineAction(null);
+  let worker = null;
+  try {
+    worker = new Worker("worker.js", { type: "module" });
+  } catch (err) {
+    console.warn("worker not started:", err);
+  }
+  messenger.restart(worker);
+  whenReady();
+  messenger.ready.then(() => {
+    schedule(0);
+    document.dispatchEvent(new CustomEvent("pd:engine-restarted"));
+  }, () => {});
+}
 
 function engineFailed(error) {
   engineLine.dataset.state = "failed";
   engineLine.textContent = "Calculator unavailable";
+  engineAction("Reload", () => location.reload());
+  $("#first-visit")?.remove();
   results.dataset.status = "failed";
   const advice = el("div", { class: "engine-failed", role: "alert" },
     el("h3", { text: "The calculator could not start" }),
@@ -77,7 +155,7 @@ let again = false;
 
 function schedule(delay = DEBOUNCE_MS) {
   clearTimeout(timer);
-  if (messenger.state !== "failed") results.dataset.status = "pending";
+  if (messenger.state !== "failed" && messenger.state !== "stopped") results.dataset.status = "pending";
   timerPending = true;
   timer = setTimeout(recompute, delay);
 }
@@ -109,13 +187,17 @@ async function recompute() {
       performance.mark("pd:first-result");
       offerOffline();
     }
+  } else if (messenger.state === "stopped") {
+    engineStopped(messenger.error);
   } else if (messenger.state !== "failed") {
     showError(reply.error, inputs);
   }
 }
 
 function keep(doc) {
-  history.replaceState(null, "", store.caseAddress(doc));
+  if (store.tooDeep(doc)) return; // never saved: it could not be read back
+  history.replaceState(history.state, "", store.caseAddress(doc));
+  lastAddress = location.hash;
   store.saveDraft(doc);
 }
 
@@ -144,6 +226,14 @@ function showResult(doc, result) {
   statusLine.textContent = `Up to date · ${result.points.length} point${result.points.length === 1 ? "" : "s"} of gaze`;
 }
 
+// Words for a field path; a key that objects inherit ("constructor") is never looked up.
+function fieldWords(field) {
+  const parts = field.split(".");
+  if (parts.some((part) => part in Object.prototype)) return parts.join(" ").replace(/_/g, " ");
+  const words = pathInWords(field);
+  return typeof words === "string" ? words : parts.join(" ");
+}
+
 // The input a refusal belongs to: the exact path, else the nearest enclosing one.
 function inputFor(field, inputs) {
   let path = field;
@@ -161,7 +251,7 @@ function showError(error, inputs) {
   clearMarks();
   const field = error.field || "";
   const input = inputFor(field, inputs);
-  const words = field ? pathInWords(field) : "Case";
+  const words = field ? fieldWords(field) : "Case";
   const untouchedEmpty = input && !touched.has(input) && input.value.trim() === "" && input.type !== "checkbox";
   if (input && !untouchedEmpty) {
     input.setAttribute("aria-invalid", "true");
@@ -223,11 +313,40 @@ $("#custom-points").addEventListener("click", (e) => {
 
 // ---------------------------------------------------------------- cases
 const caseMessage = $("#case-message");
-function say(text) {
-  caseMessage.textContent = text;
+// A message under the case bar, optionally with one action (Undo).
+function say(text, action) {
+  caseMessage.replaceChildren(text);
+  if (action) {
+    const button = el("button", { type: "button", class: "secondary undo", text: action.label });
+    button.addEventListener("click", () => {
+      button.remove();
+      action.run();
+    });
+    caseMessage.append(" ", button);
+  }
 }
 
-function loadCase(doc, source) {
+// Points the form can show: "distance", "near" and points with in/up millimetres.
+// Anything else is refused rather than dropped without a word.
+function pointsProblem(doc) {
+  if (!Object.hasOwn(doc, "points")) return "";
+  if (!Array.isArray(doc.points)) return "its points of gaze are not a list";
+  const bad = doc.points.findIndex((p) => !(p === "distance" || p === "near" ||
+    (p && typeof p === "object" && !Array.isArray(p))));
+  return bad < 0 ? "" : `point of gaze ${bad + 1} is neither “distance”, “near” nor a point with in and up millimetres`;
+}
+
+// Shows a case in the form. With {push: true} the case shown before gets its
+// own history entry, so that the browser's Back returns to it.
+export function loadCase(doc, source, { push = false } = {}) {
+  if (push) {
+    clearTimeout(timer);
+    timerPending = false;
+    const before = caseForm.collect().doc;
+    if (!store.tooDeep(before)) history.replaceState(history.state, "", store.caseAddress(before));
+    history.pushState({ pd: "case" }, "", store.caseAddress(doc));
+    lastAddress = location.hash;
+  }
   touched.clear();
   const extras = caseForm.fill(doc);
   for (const input of document.querySelectorAll("[data-path]")) if (input.value) touched.add(input);
@@ -255,6 +374,13 @@ function loadCase(doc, source) {
   schedule(0);
 }
 
+// The form differs from an empty new case (something worth an Undo).
+function edited() {
+  return [...document.querySelectorAll("#case-form [data-path], #case-name")].some((input) =>
+    input.type !== "checkbox" && input.value.trim() !== "" && input.value !== input.dataset.default) ||
+    $("#custom-points").children.length > 0;
+}
+
 function refreshSaved(select = "") {
   const list = $("#saved-cases");
   const names = store.savedNames();
@@ -271,23 +397,39 @@ $("#save-case").addEventListener("click", () => {
     $("#case-name").focus();
     return;
   }
-  say(store.saveCase(name, doc) ? `Saved “${name}” in this browser.` : "Could not save: this browser's storage is full or turned off.");
+  say(store.saveCase(name, doc) ? `Saved “${name}” in this browser.` : "Not saved: " + store.whyNotSaved());
   refreshSaved(name);
 });
 $("#open-saved").addEventListener("click", () => {
   const name = $("#saved-cases").value;
   const doc = name && store.savedCase(name);
-  if (doc) loadCase(doc, `Opened “${name}”.`);
+  if (doc) loadCase(doc, `Opened “${name}”. Back returns to the case before.`, { push: true });
 });
 $("#delete-saved").addEventListener("click", () => {
   const name = $("#saved-cases").value;
   if (!name) return;
-  store.deleteCase(name);
+  const entry = store.deleteCase(name);
   refreshSaved();
-  say(`Deleted “${name}” from this browser.`);
+  if (!entry) {
+    say(`Not deleted: ${store.whyNotSaved()}`);
+    return;
+  }
+  say(`Deleted “${name}” from this browser.`, { label: "Undo", run: () => {
+    say(store.restoreCase(name, entry) ? `Brought back “${name}”.` : "Could not bring it back: " + store.whyNotSaved());
+    refreshSaved(name);
+  } });
 });
 $("#new-case").addEventListener("click", () => {
-  loadCase({}, "New case.");
+  const before = caseForm.collect().doc;
+  const wasEdited = edited();
+  loadCase({}, "", { push: wasEdited });
+  if (wasEdited) {
+    say("New case. The one before is kept: Undo, or the browser's Back.", { label: "Undo", run: () => {
+      loadCase(before, "Brought back the case from before New.");
+    } });
+  } else {
+    say("New case.");
+  }
   $("#right-sphere").focus();
 });
 $("#export-case").addEventListener("click", () => {
@@ -305,21 +447,38 @@ $("#import-file").addEventListener("change", async (e) => {
   const file = e.target.files[0];
   e.target.value = "";
   if (!file) return;
-  let doc;
+  let text;
   try {
-    doc = JSON.parse(await file.text());
+    text = await file.text();
   } catch {
-    say(`Not imported: ${file.name} is not a JSON case file. The current case is unchanged.`);
+    say(`Not imported: ${file.name} could not be read. The current case is unchanged.`);
+    return;
+  }
+  // What kind of document it is (nothing of it is sent or saved before this).
+  const found = await readDocument(messenger, text, file.name);
+  if (found.problem) {
+    say(`Not imported: ${found.problem.replace(" is not JSON", " is not a JSON case file")}. The current case is unchanged.`);
+    return;
+  }
+  if (found.kind !== "case") {
+    say(wrongKind(file.name, found.kind, "case") + " The current case is unchanged.");
+    return;
+  }
+  const doc = found.document;
+  const points = pointsProblem(doc);
+  if (points) {
+    say(`Not imported: in ${file.name}, ${points}. The current case is unchanged.`);
     return;
   }
   // The core checks the case. A refusal of the document as a whole leaves the
   // current case alone; one naming a field is shown at that field.
   const reply = await messenger.request("evaluate", doc);
-  if (!reply.ok && !reply.error.field) {
+  if (!reply.ok && (!reply.error.field || reply.error.code)) {
     say(`Not imported: ${file.name}: ${reply.error.message} The current case is unchanged.`);
     return;
   }
-  loadCase(doc, reply.ok ? `Imported ${file.name}.` : `Imported ${file.name}; it needs a correction (marked below).`);
+  loadCase(doc, reply.ok ? `Imported ${file.name}. Back returns to the case before.`
+    : `Imported ${file.name}; it needs a correction (marked below).`, { push: true });
 });
 $("#print-case").addEventListener("click", () => {
   drawPrintSummary();
@@ -331,10 +490,31 @@ function fileName(name) {
   return stem + ".prism.json";
 }
 
-window.addEventListener("hashchange", () => {
-  const doc = store.caseFromAddress();
-  if (doc) loadCase(doc, "Opened the case in the address.");
-});
+// A case link: {doc} shown, or a sentence saying why it was not opened.
+function fromAddress() {
+  const found = store.readAddress();
+  if (!found) return null;
+  if (found.problem) return found;
+  const points = pointsProblem(found.doc);
+  if (points) return { problem: `The case in this link was not opened: ${points}.` };
+  return found;
+}
+
+// Back and Forward: the case of that history entry comes back into the form.
+let lastAddress = location.hash;
+function followAddress(source) {
+  if (location.hash === lastAddress) return;
+  lastAddress = location.hash;
+  const found = fromAddress();
+  if (!found) return;
+  if (found.problem) {
+    say(found.problem + " The case below is the one you had.");
+    return;
+  }
+  loadCase(found.doc, source);
+}
+window.addEventListener("popstate", () => followAddress("Back to the case as it was before."));
+window.addEventListener("hashchange", () => followAddress("Opened the case in the address."));
 
 // ---------------------------------------------------------------- offline and updates
 const notices = $("#notices");
@@ -397,11 +577,40 @@ export function offerOffline() {
 }
 
 // ---------------------------------------------------------------- start
+// What storage said at start-up, in words, with the damaged copy offered as a file.
+function storageNotice() {
+  if (storage.problem === "unreadable" || storage.problem === "unreadable-unsaved") {
+    const box = notice("The saved cases in this browser could not be read. " + (storage.backup !== null
+      ? "They were set aside untouched (not deleted): download them as a file to keep or repair them."
+      : "They were left as they are; nothing new is saved until this is sorted out."),
+    storage.backup !== null ? { label: "Download the unreadable copy", run: () => {
+      const blob = new Blob([storage.backup], { type: "application/octet-stream" });
+      const link = el("a", { href: URL.createObjectURL(blob), download: "prism-desk-saved-cases-unreadable.txt" });
+      document.body.append(link);
+      link.click();
+      link.remove();
+    } } : null);
+    box.id = "storage-notice";
+  } else if (storage.problem === "newer") {
+    notice("The saved cases in this browser were written by a newer version of Prism Desk. This version can " +
+      "open them but leaves them untouched; reload to get the newer version.").id = "storage-notice";
+  }
+  if (storage.stockSkipped) {
+    notice(`${storage.stockSkipped} unreadable row${storage.stockSkipped === 1 ? " was" : "s were"} left out of the readers stock.`);
+  }
+}
+storageNotice();
 refreshSaved();
-const initial = store.caseFromAddress() || store.draftCase();
-if (initial) {
-  loadCase(initial, "");
+const arrived = fromAddress();
+if (arrived && arrived.doc) {
+  loadCase(arrived.doc, "");
 } else {
-  caseForm.fill({});
-  schedule(0);
+  // A damaged link never shows the last draft as if it were the linked case.
+  const draft = store.draftCase();
+  if (draft) loadCase(draft, "");
+  else {
+    caseForm.fill({});
+    schedule(0);
+  }
+  if (arrived) say(arrived.problem + (draft ? " Below is the case you last worked on in this browser." : ""));
 }
