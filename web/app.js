@@ -508,6 +508,10 @@ function followAddress(source) {
   const found = fromAddress();
   if (!found) return;
   if (found.problem) {
+    // The address goes back to the case on screen, so that nothing passes it off as the link's.
+    const { doc } = caseForm.collect();
+    if (!store.tooDeep(doc)) history.replaceState(history.state, "", store.caseAddress(doc));
+    lastAddress = location.hash;
     say(found.problem + " The case below is the one you had.");
     return;
   }

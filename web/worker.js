@@ -84,6 +84,14 @@ function counted(url, response) {
   return new Response(stream, { status: response.status, statusText: response.statusText, headers: response.headers });
 }
 
+// After a start-up failure has been reported, the runtime's own left-over
+// rejections (its other downloads) are only logged.
+self.addEventListener("unhandledrejection", (e) => {
+  if (!startFailed) return;
+  e.preventDefault();
+  console.warn("after the start-up failure:", e.reason && e.reason.message);
+});
+
 const plainFetch = self.fetch.bind(self);
 self.fetch = async (input, init) => {
   const url = typeof input === "string" ? input : input instanceof URL ? input.href : input.url;

@@ -149,7 +149,9 @@ def set_stock(page: Any, rows: list[dict[str, str]]) -> None:
     """Put a stock list on the device and reload: written as the previous schema
     (one array), which the app moves into one stored entry per row on start."""
     page.evaluate("""([key, rows]) => {
-        for (const k of Object.keys(localStorage)) if (k.startsWith('prism-desk.stock.')) localStorage.removeItem(k);
+        for (const k of Object.keys(localStorage)) {
+            if (k.startsWith('prism-desk.stock.')) localStorage.removeItem(k);
+        }
         localStorage.setItem(key, JSON.stringify(rows));
         localStorage.removeItem(key.replace('stock', 'undo')); }""",
                   [STORE + "readers-stock", rows])
