@@ -413,6 +413,21 @@ def test_a_key_named_constructor_never_prints_code(app, site):
 
 
 # ---------------------------------------------------------------- the engine
+def test_a_message_that_cannot_be_sent_is_answered_at_once(app):
+    """postMessage throws (here: a value the browser cannot copy): the request is
+    answered at once and nothing stays pending."""
+    reply = app.evaluate("""async () => {
+        const { Messenger } = await import(new URL('messenger.js', location.href).href);
+        const worker = { addEventListener() {}, terminate() {},
+                         postMessage(message) { structuredClone(message); } };
+        const messenger = new Messenger(worker, { startTimeoutMs: 600000 });
+        const reply = await messenger.request('evaluate', { name: () => 1 });
+        clearTimeout(messenger.startTimer);
+        return [reply.ok, reply.error.code, messenger.pending.size];
+    }""")
+    assert reply == [False, "send", 0]
+
+
 @pytest.mark.parametrize("file", ["pyodide.asm.wasm", "python_stdlib.zip"])
 def test_a_runtime_file_that_fails_to_download_fails_at_once(browser, site, file):
     watch = Watch()
