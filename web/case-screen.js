@@ -2,6 +2,7 @@
 // the worker for the case's figures after each edit and shows them; it never
 // computes optics. The app shell (app.js) owns the case bar (Save, Open, New,
 // Import, Export), notices and offline use, and calls loadCase() to show a case.
+import { pointsProblem } from "./documents.js";
 import { renderBand } from "./answer-band.js";
 import { CaseForm, messageInWords, pathInWords, toValue } from "./form.js";
 import { el, renderCautions, renderPrintSummary, renderResult, renderTransposed } from "./results.js";
@@ -73,7 +74,7 @@ export function setUpCaseScreen(host) {
 
   function schedule(delay = DEBOUNCE_MS) {
     clearTimeout(timer);
-    if (messenger.state !== "failed") results.dataset.status = "pending";
+    if (messenger.state !== "failed" && messenger.state !== "stopped") results.dataset.status = "pending";
     band.dataset.pending = "true";
     timerPending = true;
     timer = setTimeout(recompute, delay);
@@ -91,7 +92,8 @@ export function setUpCaseScreen(host) {
     const started = performance.now();
     const reply = await messenger.request("evaluate", doc);
     performance.measure("pd:answer", { start: started, end: performance.now() });
-    const more = reply.ok || messenger.state === "failed" ? [] : await moreErrors(doc, reply.error, inputs);
+    const more = reply.ok || messenger.state === "failed" || messenger.state === "stopped" || reply.error.code
+      ? [] : await moreErrors(doc, reply.error, inputs);
     inFlight = false;
     if (again) {
       again = false;
@@ -108,6 +110,8 @@ export function setUpCaseScreen(host) {
         performance.mark("pd:first-result");
         host.onFirstResult();
       }
+    } else if (messenger.state === "stopped") {
+      if (host.onStopped) host.onStopped(messenger.error);
     } else if (messenger.state !== "failed") {
       showErrors([reply.error, ...more], inputs);
     }
@@ -162,6 +166,7 @@ export function setUpCaseScreen(host) {
   }
 
   function keep(doc) {
+    if (store.tooDeep(doc)) return; // never saved: it could not be read back
     const address = store.caseAddress(doc);
     const state = history.state && typeof history.state === "object" ? history.state : {};
     history.replaceState({ ...state, typed: typedSnapshot() }, "", address);
@@ -340,11 +345,28 @@ export function setUpCaseScreen(host) {
     schedule(0);
   }
 
+  // A case link: {doc}, or {problem} saying in one sentence why it was not opened.
+  function readLink() {
+    const found = store.readAddress();
+    if (!found || found.problem) return found;
+    const points = pointsProblem(found.doc);
+    return points ? { problem: `The case in this link was not opened: ${points}.` } : found;
+  }
+
   const fromAddress = (message) => {
     if (location.hash === shownAddress) return; // written by this screen
-    const doc = store.caseFromAddress();
     shownAddress = location.hash;
-    if (doc) loadCase(doc, message, { typed: history.state && history.state.typed });
+    const found = readLink();
+    if (!found) return;
+    if (found.problem) {
+      // The address goes back to the case on screen: nothing passes it off as the link's.
+      const { doc } = caseForm.collect();
+      if (!store.tooDeep(doc)) history.replaceState(history.state, "", store.caseAddress(doc));
+      shownAddress = location.hash;
+      say(found.problem + " The case below is the one you had.");
+      return;
+    }
+    loadCase(found.doc, message, { typed: history.state && history.state.typed });
   };
   window.addEventListener("popstate", () => fromAddress("Back to the case before."));
   window.addEventListener("hashchange", () => fromAddress("Opened the case in the address."));
@@ -355,17 +377,24 @@ export function setUpCaseScreen(host) {
   });
 
   function start() {
-    const initial = store.caseFromAddress() || store.draftCase();
-    if (initial) {
-      loadCase(initial, "", { typed: history.state && history.state.typed });
-    } else {
+    const arrived = readLink();
+    if (arrived && arrived.doc) {
+      loadCase(arrived.doc, "", { typed: history.state && history.state.typed });
+      return;
+    }
+    // A damaged link never shows the last draft as if it were the linked case.
+    const draft = store.draftCase();
+    if (draft) loadCase(draft, "", { typed: history.state && history.state.typed });
+    else {
       caseForm.fill({});
       schedule(0);
     }
+    if (arrived) say(arrived.problem + (draft ? " Below is the case you last worked on in this browser." : ""));
   }
 
   return {
     loadCase, remember, start, engineFailed,
+    recompute: () => schedule(0),
     collect: () => caseForm.collect(),
     focusFirst: () => $("#right-rx").focus(),
   };

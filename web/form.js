@@ -266,7 +266,7 @@ const WORDS = {
 export function pathInWords(path) {
   const words = { ...WORDS, ...extraWords };
   const parts = String(path).split(".").filter((p) => p !== "");
-  const say = (p) => words[p] || p.replace(/_mm$/, "").replace(/_/g, " ");
+  const say = (p) => (Object.hasOwn(words, p) ? words[p] : p.replace(/_mm$/, "").replace(/_/g, " "));
   if (parts[0] === "points" && parts.length > 1) {
     return ["Point of gaze " + (Number(parts[1]) + 1), ...parts.slice(2).map(say)].join(", ");
   }

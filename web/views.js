@@ -5,8 +5,8 @@
 import { messenger, offerOffline } from "./app.js";
 import { el, loadSaved, save } from "./checks-common.js";
 import { createVerifyScreen } from "./verify.js";
-import { createReadersScreen } from "./readers.js";
-import { createDeviationScreen } from "./deviation.js";
+import { createReadersScreen } from "./screens/readers.js";
+import { createDeviationScreen } from "./screens/deviation.js";
 
 const SCREENS = [
   { name: "case", label: "Case", long: "prism at the eyes" },
@@ -18,7 +18,9 @@ const MAKERS = { verify: createVerifyScreen, readers: createReadersScreen, devia
 
 const masthead = document.querySelector(".masthead");
 const skip = document.querySelector(".skip");
-const built = new Map(); // name -> {root, shown()}
+// Each screen module exports create…Screen(context) -> {root, show(), hide(), resultsId}
+// (DEVELOPERS.md, "Screens"); screens built before that shape have shown().
+const built = new Map();
 const context = {
   messenger,
   // After a check screen's first answer the app is offered for offline use, as
@@ -70,11 +72,16 @@ export function show(name, { focus = false } = {}) {
     if (tab.dataset.screen === name) tab.setAttribute("aria-current", "page");
     else tab.removeAttribute("aria-current");
   }
-  for (const [other, screen] of built) screen.root.hidden = other !== name;
+  for (const [other, screen] of built) {
+    if (other === name) continue;
+    if (screen.hide) screen.hide();
+    else screen.root.hidden = true;
+  }
   if (name !== "case") {
     const screen = screenRoot(name);
     screen.root.hidden = false;
-    screen.shown();
+    if (screen.show) screen.show();
+    else screen.shown();
     if (skip) skip.href = "#" + screen.resultsId;
     if (focus) screen.root.querySelector("h2")?.focus();
   } else if (skip) {
@@ -91,4 +98,9 @@ const fromLink = arrival && arrival.type === "navigate" && location.hash.startsW
 show(fromLink ? "case" : loadSaved("screen", "case"));
 window.addEventListener("hashchange", () => {
   if (location.hash.startsWith("#case=")) show("case");
+});
+// The verify screen predates the shared shape; restarted engines recompute it too.
+document.addEventListener("pd:engine-restarted", () => {
+  const verify = built.get("verify");
+  if (verify && verify.calc) verify.calc.schedule(0);
 });

@@ -1,6 +1,7 @@
 // Module worker that owns the Python runtime and the calculation core.
 // Requests: {id, action, payload}; one reply each: {id, ok, result | error}.
-// Events (no id): {event: "ready", version, timings, start} or {event: "failed", error}.
+// Events (no id): {event: "ready", version, timings, start}, {event: "failed", error},
+// {event: "progress", file, what, loaded, total}, {event: "stopped", error}, {event: "timings"}.
 // See docs/worker-protocol.md.
 //
 // Start-up: the runtime, the lock file and the core's wheel are fetched in
@@ -21,6 +22,93 @@ function failure(code, message) {
   return { field: "", code, message };
 }
 
+// ---------------------------------------------------------------- downloads
+// Every file of the runtime, by the end of its name, in words a person knows.
+const FILES = [
+  [".wasm", "the Python runtime"],
+  ["python_stdlib.zip", "Python's standard library"],
+  [".whl", "the calculation core"],
+  ["pyodide-lock.json", "the list of the calculator's parts"],
+  [".mjs", "the runtime's loader"],
+  [".js", "the runtime's loader"],
+];
+const whatIs = (url) => (FILES.find(([end]) => url.split("?")[0].endsWith(end)) || [null, "a part of the calculator"])[1];
+const fileOf = (url) => url.split("?")[0].split("/").pop();
+let startFailed = false;
+let ready = false;
+
+// Start-up fails at once (not after a time-out) when a file cannot be downloaded.
+function downloadFailed(url, why) {
+  if (startFailed || ready) return;
+  startFailed = true;
+  self.postMessage({ event: "failed", error: failure("fetch",
+    `The calculator could not start: ${whatIs(url)} (${fileOf(url)}) could not be downloaded${why}. ` +
+    "Check the connection and reload; once it has started here, the app also works offline.") });
+}
+
+// Large downloads report how far they are ({event: "progress"}), at most ~5 times a second.
+function counted(url, response) {
+  const total = Number(response.headers.get("Content-Length")) || 0;
+  if (!response.body || total < 200000 || typeof ReadableStream !== "function") return response;
+  let loaded = 0;
+  let last = 0;
+  const post = (force) => {
+    const now = performance.now();
+    if (!force && now - last < 200) return;
+    last = now;
+    self.postMessage({ event: "progress", file: fileOf(url), what: whatIs(url), loaded, total });
+  };
+  const reader = response.body.getReader();
+  const stream = new ReadableStream({
+    async pull(controller) {
+      let part;
+      try {
+        part = await reader.read();
+      } catch (err) {
+        downloadFailed(url, " completely");
+        controller.error(err);
+        return;
+      }
+      if (part.done) {
+        post(true);
+        controller.close();
+        return;
+      }
+      loaded += part.value.byteLength;
+      post(false);
+      controller.enqueue(part.value);
+    },
+    cancel(reason) { return reader.cancel(reason); },
+  });
+  post(true);
+  return new Response(stream, { status: response.status, statusText: response.statusText, headers: response.headers });
+}
+
+// After a start-up failure has been reported, the runtime's own left-over
+// rejections (its other downloads) are only logged.
+self.addEventListener("unhandledrejection", (e) => {
+  if (!startFailed) return;
+  e.preventDefault();
+  console.warn("after the start-up failure:", e.reason && e.reason.message);
+});
+
+const plainFetch = self.fetch.bind(self);
+self.fetch = async (input, init) => {
+  const url = typeof input === "string" ? input : input instanceof URL ? input.href : input.url;
+  let response;
+  try {
+    response = await plainFetch(input, init);
+  } catch (err) {
+    downloadFailed(url, "");
+    throw err;
+  }
+  if (!response.ok) {
+    downloadFailed(url, ` (the server answered ${response.status})`);
+    return response;
+  }
+  return counted(url, response);
+};
+
 function hexToBase64(hex) {
   let binary = "";
   for (let i = 0; i < hex.length; i += 2) binary += String.fromCharCode(parseInt(hex.slice(i, i + 2), 16));
@@ -32,10 +120,10 @@ async function fetchOk(url, options, what) {
   try {
     response = await fetch(url, options);
   } catch (err) {
-    throw failure("fetch", `${what} could not be loaded (${err.message}). ` +
+    throw failure("fetch", `The calculator could not start: ${what} could not be loaded. ` +
       "If you are offline, open the app once while online so that it can be kept on this device.");
   }
-  if (!response.ok) throw failure("fetch", `${what} could not be loaded (HTTP ${response.status}).`);
+  if (!response.ok) throw failure("fetch", `The calculator could not start: ${what} could not be loaded (the server answered ${response.status}).`);
   return response;
 }
 
@@ -51,10 +139,10 @@ async function start(useImage = true) {
   if (typeof WebAssembly !== "object" || typeof WebAssembly.instantiate !== "function") {
     throw failure("no-wasm", "This browser has WebAssembly turned off or does not support it.");
   }
-  const lock = fetchOk(here("./pyodide-lock.json"), {}, "The engine's package list").then((r) => r.json());
+  const lock = fetchOk(here("./pyodide-lock.json"), {}, "the list of the calculator's parts").then((r) => r.json());
   const entry = lock.then((l) => Object.values(l.packages)[0]);
   const wheel = entry.then((e) => fetchOk(here("./wheels/" + e.file_name),
-    { integrity: "sha256-" + hexToBase64(e.sha256) }, "The calculation core").then((r) => r.arrayBuffer()));
+    { integrity: "sha256-" + hexToBase64(e.sha256) }, "the calculation core").then((r) => r.arrayBuffer()));
   const images = openImages();
   const imageKey = entry.then((e) => here(`./__image/${SNAPSHOT_FORMAT}/${e.sha256}`));
   const image = !useImage ? Promise.resolve(null) : Promise.all([images, imageKey]).then(async ([cache, key]) => {
@@ -64,7 +152,11 @@ async function start(useImage = true) {
   wheel.catch(() => {});
 
   const [{ loadPyodide, version: runtimeVersion }, lockData, saved] =
-    await Promise.all([import("./pyodide/pyodide.mjs"), lock, image]);
+    await Promise.all([import("./pyodide/pyodide.mjs").catch((err) => {
+      console.warn("runtime loader:", err && err.message);
+      throw failure("fetch", "The calculator could not start: the runtime's loader (pyodide.mjs) could not be " +
+        "loaded. Check the connection and reload.");
+    }), lock, image]);
   mark("fetched");
   const options = {
     indexURL: here("./pyodide/"),
@@ -134,13 +226,23 @@ engine.then(
       console.warn("version request failed", err);
     }
     mark("ready");
+    ready = true;
     self.postMessage({ event: "ready", version, timings, start: from });
   },
   (err) => {
-    const error = err && err.code ? err : failure("start", String((err && err.message) || err));
-    self.postMessage({ event: "failed", error });
+    if (startFailed) return; // already reported, the moment a download failed
+    startFailed = true;
+    self.postMessage({ event: "failed", error: startError(err) });
   },
 );
+
+// A start-up error in words a person understands; the runtime's own text goes to the console.
+function startError(err) {
+  if (err && err.code) return err;
+  console.warn("start-up failed:", err);
+  return failure("start", "The calculator could not start in this browser (its runtime stopped while loading). " +
+    "Reload the page; if that does not help, see the advice below.");
+}
 
 let imageQueued = false;
 
@@ -151,7 +253,7 @@ self.addEventListener("message", async (e) => {
   try {
     core = await engine;
   } catch (err) {
-    self.postMessage({ id, ok: false, error: err && err.code ? err : failure("start", String(err)) });
+    self.postMessage({ id, ok: false, error: startError(err) });
     return;
   }
   let reply;
@@ -159,6 +261,12 @@ self.addEventListener("message", async (e) => {
     reply = JSON.parse(core.handle(JSON.stringify({ action, payload })));
   } catch (err) {
     console.warn("core failure", err);
+    if (err instanceof WebAssembly.RuntimeError || /fatal error/i.test(String(err && err.message))) {
+      // The runtime cannot go on: the page ends this worker and offers a restart.
+      self.postMessage({ id, ok: false, error: failure("stopped", "The calculator stopped unexpectedly.") });
+      self.postMessage({ event: "stopped", error: failure("stopped", "The calculator stopped unexpectedly.") });
+      return;
+    }
     reply = { ok: false, error: failure("internal", "The calculation stopped unexpectedly; the input was kept.") };
   }
   if (reply.ok) {

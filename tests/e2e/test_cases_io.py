@@ -111,7 +111,7 @@ def test_saved_cases_and_older_store_migrate(site, page):
     assert page.locator("#saved-cases option").all_text_contents() == [
         "from an older version", "temporal check"]
     stored = json.loads(page.evaluate("() => localStorage.getItem('prism-desk.store')"))
-    assert stored["schema"] == 1 and "temporal check" in stored["cases"]
+    assert stored["schema"] == 2 and "temporal check" in stored["cases"]
 
     seq = result_seq(page)
     page.select_option("#saved-cases", "from an older version")

@@ -146,9 +146,14 @@ def engine_ready(page: Any) -> None:
 
 
 def set_stock(page: Any, rows: list[dict[str, str]]) -> None:
-    """Put a stock list on the device, as the screen keeps it, and reload."""
-    page.evaluate("([key, rows]) => { localStorage.setItem(key, JSON.stringify(rows));"
-                  " localStorage.removeItem(key.replace('stock', 'undo')); }",
+    """Put a stock list on the device and reload: written as the previous schema
+    (one array), which the app moves into one stored entry per row on start."""
+    page.evaluate("""([key, rows]) => {
+        for (const k of Object.keys(localStorage)) {
+            if (k.startsWith('prism-desk.stock.')) localStorage.removeItem(k);
+        }
+        localStorage.setItem(key, JSON.stringify(rows));
+        localStorage.removeItem(key.replace('stock', 'undo')); }""",
                   [STORE + "readers-stock", rows])
     page.reload()
     engine_ready(page)

@@ -4,8 +4,8 @@
 import {
   Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, inOut, prismFigures,
   prismText, restoreFormDraft, resultsPanel, rxText, saveFormDraft, signed, standingCaution, upDown,
-} from "./checks-common.js";
-import * as store from "./store.js";
+} from "../checks-common.js";
+import * as store from "../store.js";
 
 const EYE = { right: "Right", left: "Left" };
 const factor = (v) => "× " + v.toFixed(3);
@@ -109,11 +109,14 @@ export function createDeviationScreen({ messenger, firstResult }) {
   function renderDeviation(body, result) {
     const dev = result.deviating;
     const parts = [
-      el("div", { class: "verdict-banner", "data-result": "info" },
-        el("p", { class: "verdict-label", text: "Deviation at the eye" }),
-        el("p", { class: "verdict-word" }, fig(result, "at_eye.in_words")),
-        el("p", { class: "verdict-against" }, "measured ", fig(result, "measured.in_words"), " before the ",
-          fig(result, "deviating"), " eye; the ", fig(result, "fixating"), " eye fixated")),
+      // The answer first: the deviation at the eye, the largest text on the screen.
+      el("div", { class: "answer-band", id: "dv-band", "data-result": "info" },
+        el("p", { class: "band-lead", text: "Deviation at the eye" }),
+        el("p", { class: "band-figure" }, fig(result, "at_eye.in_words")),
+        el("p", { class: "band-detail" }, "prism dioptres (Δ), ", fig(result, "at_eye.amount", (v) => v.toFixed(2) + " Δ"),
+          " in all, before the ", fig(result, "deviating"), " eye"),
+        el("p", { class: "band-detail" }, "measured ", fig(result, "measured.in_words"), " through the spectacles; the ",
+          fig(result, "fixating"), " eye fixated")),
       el("section", { class: "derived", "aria-labelledby": "dv-h-why" },
         el("h3", { id: "dv-h-why", text: "Why it differs" }),
         el("ul", { class: "explanation" }, ...result.explanation.map((_, i) => el("li", {}, fig(result, `explanation.${i}`))))),
@@ -158,14 +161,21 @@ export function createDeviationScreen({ messenger, firstResult }) {
   }
 
   restoreFormDraft("deviation", form);
+  document.addEventListener("pd:engine-restarted", () => {
+    if (started) calc.schedule(0);
+  });
   let started = false;
   return {
     root,
     resultsId: "dv-results",
-    shown() {
+    show() {
+      root.hidden = false;
       if (started) return;
       started = true;
       calc.run();
+    },
+    hide() {
+      root.hidden = true;
     },
     calc,
   };

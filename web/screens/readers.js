@@ -6,7 +6,9 @@ import {
   Calculation, button, cautionsBox, collect, download, el, eyeGrid, factRow, facts, field, fig, fixed, inputValue,
   loadSaved, millimetres, prismFigures, restoreFormDraft, resultsPanel, save, saveFormDraft, selectField,
   signed, standingCaution, withUnit,
-} from "./checks-common.js";
+} from "../checks-common.js";
+import * as store from "../store.js";
+import { readDocument, wrongKind } from "../documents.js";
 
 const COLUMNS = [
   { key: "id", label: "Label", hint: "as on the shelf", kind: "text" },
@@ -55,8 +57,10 @@ export function createReadersScreen({ messenger, firstResult }) {
       limitsInfo));
 
   // ---------------------------------------------------------------- the stock
-  let rows = loadSaved("readers-stock", []);
-  if (!Array.isArray(rows)) rows = [];
+  // The stock: one stored entry per row ({uid, order, row}, store.js), so that
+  // two tabs never overwrite each other's rows; another tab's changes arrive by
+  // storage events and are drawn at once.
+  let { entries: rows, skipped } = store.stockEntries();
   let undo = loadSaved("readers-undo", null);
   let stockInputs = new Map(); // payload path -> input
   const stockList = el("ol", { class: "stock-list", id: "rd-stock-list" });
@@ -98,10 +102,10 @@ export function createReadersScreen({ messenger, firstResult }) {
   }
 
   function drawStock() {
-    stockList.replaceChildren(...rows.map((row, i) => {
+    stockList.replaceChildren(...rows.map(({ uid, row }, i) => {
       const remove = button("Remove", { class: "secondary remove", "aria-label": `Remove pair ${i + 1}${row.id ? " (" + row.id + ")" : ""}` });
       remove.dataset.row = String(i);
-      return el("li", { class: "stock-row", "data-row": String(i) },
+      return el("li", { class: "stock-row", "data-row": String(i), "data-uid": uid },
         el("span", { class: "row-number", "aria-hidden": "true", text: String(i + 1) }),
         ...COLUMNS.map((c) => stockCell(i, c, row[c.key])), remove);
     }));
@@ -109,15 +113,52 @@ export function createReadersScreen({ messenger, firstResult }) {
       ? `${rows.length} kind${rows.length === 1 ? "" : "s"} of pair listed` : "none listed yet";
   }
 
-  function keepStock() {
-    save("readers-stock", rows);
+  function keepRow(entry) {
+    if (!store.putStockRow(entry.uid, entry.order, entry.row)) {
+      stockMessage.textContent = "Not kept on this device: its storage is full or turned off.";
+    }
   }
+
+  function nextOrder() {
+    return rows.reduce((most, entry) => Math.max(most, entry.order), 0) + 1;
+  }
+
+  function addRow(row) {
+    const entry = { uid: store.newUid(), order: nextOrder(), row };
+    rows.push(entry);
+    keepRow(entry);
+    return entry;
+  }
+
+  // The row of the pair with this label (the core names pairs by their id).
+  function entryOf(id) {
+    return rows.find((entry) => String(entry.row.id).trim() === id);
+  }
+
+  // Another tab changed the stock: read it again, keeping the focus and caret.
+  window.addEventListener("storage", (e) => {
+    if (e.key !== null && !e.key.startsWith(store.STOCK_PREFIX)) return;
+    const active = document.activeElement;
+    const cell = active && stockList.contains(active) && active.dataset.column
+      ? { uid: active.closest(".stock-row").dataset.uid, column: active.dataset.column, at: active.selectionStart } : null;
+    ({ entries: rows } = store.stockEntries());
+    drawStock();
+    if (cell) {
+      const i = rows.findIndex((entry) => entry.uid === cell.uid);
+      const input = i >= 0 && stockList.querySelector(`#rd-stock-${i}-${cell.column}`);
+      if (input) {
+        input.focus();
+        input.setSelectionRange(cell.at, cell.at);
+      }
+    }
+    calc.schedule(0);
+  });
 
   // The stock for a request: rows left wholly empty are skipped; paths map back to inputs.
   function stockPayload() {
     const stock = [];
     stockInputs = new Map();
-    rows.forEach((row, i) => {
+    rows.forEach((_, i) => {
       const pair = {};
       const cells = {};
       for (const column of COLUMNS) {
@@ -141,6 +182,15 @@ export function createReadersScreen({ messenger, firstResult }) {
     return stock;
   }
 
+  // After a hand-out or its undo only that pair's count changed: only its row is written.
+  function takeCount(stock, id) {
+    const pair = stock.find((p) => p.id === id);
+    const entry = entryOf(id);
+    if (!pair || !entry) return;
+    entry.row = { ...entry.row, count: String(pair.count) };
+    keepRow(entry);
+  }
+
   function rowsFrom(stock) {
     return stock.map((pair) => Object.fromEntries(COLUMNS.map((c) => [c.key, pair[c.key] === undefined ? "" : String(pair[c.key])])));
   }
@@ -149,26 +199,36 @@ export function createReadersScreen({ messenger, firstResult }) {
     const input = e.target.closest("input[data-column]");
     if (!input) return;
     const i = Number(input.closest(".stock-row").dataset.row);
-    rows[i][input.dataset.column] = input.value;
-    keepStock();
+    rows[i].row[input.dataset.column] = input.value;
+    keepRow(rows[i]);
     calc.schedule();
   });
   stockList.addEventListener("click", (e) => {
     const remove = e.target.closest(".remove");
     if (!remove) return;
     const i = Number(remove.dataset.row);
-    const gone = rows[i].id || `pair ${i + 1}`;
-    rows.splice(i, 1);
-    keepStock();
+    const [entry] = rows.splice(i, 1);
+    const gone = entry.row.id || `pair ${i + 1}`;
+    store.removeStockRow(entry.uid);
     drawStock();
     const next = stockList.querySelector(`.stock-row[data-row="${Math.min(i, rows.length - 1)}"] .remove`);
     (next || root.querySelector("#rd-add-row")).focus();
-    stockMessage.textContent = `Removed ${gone} from the list.`;
+    const again = button("Undo", { class: "secondary undo", id: "rd-undo-remove", "aria-label": `Undo: put ${gone} back on the list` });
+    again.addEventListener("click", () => {
+      if (!rows.some((r) => r.uid === entry.uid)) {
+        rows.push(entry);
+        rows.sort((a, b) => a.order - b.order || a.uid.localeCompare(b.uid));
+        keepRow(entry);
+        drawStock();
+      }
+      stockMessage.textContent = `Put ${gone} back on the list.`;
+      calc.schedule(0);
+    });
+    stockMessage.replaceChildren(`Removed ${gone} from the list. `, again);
     calc.schedule(0);
   });
   root.querySelector("#rd-add-row").addEventListener("click", () => {
-    rows.push({ id: "", power: "", oc_distance_mm: "", frame_size: "", count: "" });
-    keepStock();
+    addRow({ id: "", power: "", oc_distance_mm: "", frame_size: "", count: "" });
     drawStock();
     stockList.querySelector(`#rd-stock-${rows.length - 1}-id`).focus();
   });
@@ -186,6 +246,26 @@ export function createReadersScreen({ messenger, firstResult }) {
       stockMessage.textContent = `Could not read ${file.name}.`;
       return;
     }
+    // A JSON file must be a readers document (its stock is imported); a case,
+    // a pair check or a deviation is refused in one sentence.
+    if (/^\uFEFF?\s*[{[]/.test(text)) {
+      const found = await readDocument(messenger, text, file.name);
+      if (found.problem) {
+        stockMessage.textContent = `Not imported: ${found.problem}.`;
+        return;
+      }
+      if (found.kind !== "readers") {
+        stockMessage.textContent = wrongKind(file.name, found.kind, "readers") + " The stock list is unchanged.";
+        return;
+      }
+      const stock = Array.isArray(found.document.stock) ? found.document.stock : [];
+      const csv = await messenger.request("readers_stock_export", { stock });
+      if (!csv.ok) {
+        stockMessage.textContent = `Not imported: ${file.name}: ${csv.error.message}`;
+        return;
+      }
+      text = csv.result.csv;
+    }
     const reply = await messenger.request("readers_stock_import", { csv: text });
     if (!reply.ok) {
       stockMessage.textContent = `Not imported: ${reply.error.message}`;
@@ -196,16 +276,16 @@ export function createReadersScreen({ messenger, firstResult }) {
     let added = 0;
     let updated = 0;
     for (const pair of rowsFrom(result.stock)) {
-      const at = rows.findIndex((r) => String(r.id).trim() === pair.id);
-      if (at >= 0) {
-        rows[at] = pair;
+      const entry = entryOf(pair.id);
+      if (entry) {
+        entry.row = pair;
+        keepRow(entry);
         updated += 1;
       } else {
-        rows.push(pair);
+        addRow(pair);
         added += 1;
       }
     }
-    keepStock();
     drawStock();
     stockMessage.textContent = `Imported ${result.stock.length} pair${result.stock.length === 1 ? "" : "s"} from ${file.name}` +
       ` (${added} added, ${updated} updated)` +
@@ -248,9 +328,8 @@ export function createReadersScreen({ messenger, firstResult }) {
       handoutBar.replaceChildren(el("p", { class: "problem", text: reply.error.message }));
       return;
     }
-    rows = rowsFrom(reply.result.stock);
     undo = reply.result.undo;
-    keepStock();
+    takeCount(reply.result.stock, undo.id);
     save("readers-undo", undo);
     drawStock();
     drawHandout(`Handed out one pair of ${undo.id}; ${undo.count_after} left on the shelf.`);
@@ -267,9 +346,8 @@ export function createReadersScreen({ messenger, firstResult }) {
       return;
     }
     const id = undo.id;
-    rows = rowsFrom(reply.result.stock);
+    takeCount(reply.result.stock, id);
     undo = null;
-    keepStock();
     save("readers-undo", null);
     drawStock();
     drawHandout(`Put one pair of ${id} back on the shelf.`);
@@ -367,6 +445,7 @@ export function createReadersScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- drawing the answer
   function renderRanking(body, result) {
     const parts = [];
+    parts.push(answerBand(result));
     if (result.custom_needed) {
       parts.push(el("div", { class: "verdict-banner", "data-result": "fail" },
         el("p", { class: "verdict-word", text: "Custom spectacles needed" }),
@@ -404,6 +483,39 @@ export function createReadersScreen({ messenger, firstResult }) {
           el("details", { class: "breakdown" }, el("summary", { text: "Prism figures" }), pairFigures(result, `pairs.${i}`)))))));
     }
     body.replaceChildren(...parts);
+  }
+
+  // The answer first: the pair to hand out, or (none passing) the closest pair
+  // and the prism it would give. The closest: in stock first, then the nearest
+  // power, then the smallest share of the tightest limit (the core's figures).
+  function answerBand(result) {
+    let p = null;
+    let lead = "Hand out";
+    if (result.ranked.length) {
+      p = "ranked.0";
+    } else if (result.pairs.length) {
+      const order = result.pairs.map((pair, i) => i).sort((a, b) => {
+        const x = result.pairs[a];
+        const y = result.pairs[b];
+        return (y.in_stock - x.in_stock) || (Math.abs(x.power_difference_d) - Math.abs(y.power_difference_d)) ||
+          (x.worst_share - y.worst_share);
+      });
+      p = `pairs.${order[0]}`;
+      lead = "None passes; closest";
+    }
+    const band = el("div", { class: "answer-band", id: "rd-band", "data-result": result.ranked.length ? "pass" : "fail" });
+    if (!p) {
+      band.append(el("p", { class: "band-lead", text: "No pair to hand out: the stock list is empty." }));
+      return band;
+    }
+    band.append(
+      el("p", { class: "band-lead", text: lead }),
+      el("p", { class: "band-figure" }, fig(result, p + ".id")),
+      el("p", { class: "band-detail" }, fig(result, p + ".power", dioptresFig), " · OC ", fig(result, p + ".oc_distance_mm", millimetres),
+        " · on hand ", fig(result, p + ".count")),
+      el("p", { class: "band-detail" }, result.ranked.length ? "Prism: " : "It would give ",
+        fig(result, p + ".net.horizontal_in_words"), "; ", fig(result, p + ".net.vertical_in_words")));
+    return band;
   }
 
   function pairFigures(result, p) {
@@ -452,15 +564,25 @@ export function createReadersScreen({ messenger, firstResult }) {
   applyPdKind();
   drawStock();
   if (undo) drawHandout(`Last handed out: one pair of ${undo.id}.`);
+  if (skipped) {
+    stockMessage.textContent = `${skipped} stored row${skipped === 1 ? " was" : "s were"} unreadable and left out of the list.`;
+  }
+  document.addEventListener("pd:engine-restarted", () => {
+    if (started) calc.schedule(0);
+  });
   let started = false;
   return {
     root,
     resultsId: "rd-results",
-    shown() {
+    show() {
+      root.hidden = false;
       if (started) return;
       started = true;
       loadLimits();
       calc.run();
+    },
+    hide() {
+      root.hidden = true;
     },
     calc,
   };
