@@ -194,11 +194,12 @@ $("#delete-saved").addEventListener("click", () => {
 });
 $("#new-case").addEventListener("click", () => {
   const before = caseScreen.collect().doc;
+  const typed = history.state && typeof history.state === "object" ? history.state.typed : undefined;
   const wasEdited = edited();
   loadCase({}, "", { push: wasEdited });
   if (wasEdited) {
     say("New case. The one before is kept: Undo, or the browser's Back.", { label: "Undo", run: () => {
-      loadCase(before, "Brought back the case from before New.");
+      loadCase(before, "Brought back the case from before New.", { typed });
     } });
   } else {
     say("New case.");

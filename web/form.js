@@ -287,6 +287,7 @@ export function pathInWords(path) {
 // "diameter_mm" become the words the form uses ("Right sphere", "diameter").
 export function messageInWords(message) {
   return String(message)
-    .replace(/\b[a-z][a-z_]*(?:\.(?:[a-z][a-z0-9_]*|\d+))+\b/g, (path) => pathInWords(path))
+    .replace(/\b[a-z][a-z_]*(?:\.(?:[a-z][a-z0-9_]*|\d+))+\b/g,
+      (path) => (/^(e\.g|i\.e|etc)$/.test(path) ? path : pathInWords(path)))
     .replace(/\b[a-z]+(?:_[a-z0-9]+)+\b/g, (key) => pathInWords(key).toLowerCase());
 }

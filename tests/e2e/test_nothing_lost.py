@@ -114,7 +114,7 @@ def test_back_returns_before_open_and_import(app, site, tmp_path):
     first = address_case(page)
 
     page.evaluate("(hash) => { location.hash = hash; }", case_fragment(CASES["crossed-obliques"]))
-    page.wait_for_function("() => document.querySelector('#right-sphere').value === '4.5'")
+    page.wait_for_function("() => document.querySelector('#right-sphere').value === '+4.50'")
     wait_result(page)
     second = address_case(page)
     page.select_option("#saved-cases", "kept one")
@@ -122,7 +122,7 @@ def test_back_returns_before_open_and_import(app, site, tmp_path):
     page.wait_for_function("() => document.querySelector('#case-name').value === 'kept one'")
     wait_result(page)
     page.go_back()
-    page.wait_for_function("() => document.querySelector('#right-sphere').value === '4.5'")
+    page.wait_for_function("() => document.querySelector('#right-sphere').value === '+4.50'")
     wait_result(page)
     assert address_case(page) == second
 
@@ -133,7 +133,7 @@ def test_back_returns_before_open_and_import(app, site, tmp_path):
     wait_result(page)
     assert address_case(page) == CASES["oblique-progressive"]
     page.go_back()
-    page.wait_for_function("() => document.querySelector('#right-sphere').value === '4.5'")
+    page.wait_for_function("() => document.querySelector('#right-sphere').value === '+4.50'")
     wait_result(page)
     assert address_case(page) == second
     assert first != second
@@ -446,7 +446,7 @@ def test_a_runtime_file_that_fails_to_download_fails_at_once(browser, site, file
         assert raw not in text
     assert page.get_attribute("#engine", "data-state") == "failed"
     assert page.is_visible("#engine-action:has-text('Reload')")
-    assert page.input_value("#right-sphere") == "2.25"               # the case is kept
+    assert page.input_value("#right-sphere") == "+2.25"              # the case is kept (written the trade's way)
     page.unroute(f"**/pyodide/{file}")
     with page.expect_navigation():
         page.click("#engine-action")
