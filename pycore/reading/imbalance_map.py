@@ -237,7 +237,8 @@ def _path_breaks(sampler: NetSampler, depth_mm: float) -> list[float]:
                                     if 0.0 < geometry.reading_drop_mm < depth_mm else ())})
     breaks = list(ends)
     for low, high in itertools.pairwise(ends):
-        for eye, lens in (("right", sampler.right_lens), ("left", sampler.left_lens)):
+        for eye in EYES:
+            lens = sampler.right_lens if eye == "right" else sampler.left_lens
             # The eye's point moves linearly inside the piece: in = a + b d, up = c + e d.
             x1, x2 = low + (high - low) / 3.0, low + 2.0 * (high - low) / 3.0
             (i1, u1), (i2, u2) = geometry.coords(eye, x1), geometry.coords(eye, x2)
