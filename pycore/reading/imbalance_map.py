@@ -215,19 +215,20 @@ def closed_form_threshold_drop_mm(sampler: NetSampler, threshold: float,
 
 def _linear_crossing(sampler: NetSampler, start: float, end: float,
                      threshold: float) -> float | None:
-    """Where the linear piece strictly between ``start`` and ``end`` first reaches
-    +-``threshold`` (None if it does not before ``end``)."""
+    """Where the linear piece between ``start`` and ``end`` (the values inside it, and
+    their limit at ``start``) first reaches +-``threshold``; None if not before ``end``."""
     x1, x2 = start + (end - start) / 3.0, start + 2.0 * (end - start) / 3.0
+    if x2 - x1 < 1e-9:  # two breaks at the same place, to rounding: no piece between
+        return None
     y1, y2 = sampler.at(x1).induced_vertical, sampler.at(x2).induced_vertical
     slope = (y2 - y1) / (x2 - x1)
+    if abs(y1 + slope * (start - x1)) >= threshold:
+        return start  # over at once past the break (a jump at a top line or outline)
     if slope == 0.0:
         return None
     found = [x1 + (target - y1) / slope for target in (threshold, -threshold)]
     inside = [x for x in found if start < x < end]
-    if not inside:
-        return None
-    # The line is exact inside the piece; clamp the rounding of the solution.
-    return min(inside)
+    return min(inside) if inside else None
 
 
 def _path_breaks(sampler: NetSampler, depth_mm: float) -> list[float]:
