@@ -6,11 +6,18 @@
 2. ``eyes``: each lens as ordered (powers, transposed form, prism, decentration);
 3. ``fitting``: the distance and near centration;
 4. ``frame``: frame PD, decentration and the smallest blank;
-5. ``reading_zone``: the imbalance down the lenses and the threshold depth;
-6. ``remedies``: the remedies side by side (needs ``reading_zone``'s settings only);
+5. ``reading_zone``: the answer band's figures of the reading zone (the imbalance at
+   distance and at the reading point, the threshold depth, the designs), and, asked
+   for by name, its folded parts in the same result key: ``reading_map`` (``path``
+   and ``map``) and ``sensitivity`` (the fitting-error table and its warnings);
+6. ``remedies``: the suggested remedy with its order lines (closed-form figures, the
+   remedies built only as far as the choice needs); ``remedies_full``: every remedy
+   side by side, each with its finished case read and evaluated (same result key);
 7. ``verification``: the verdicts, for a case with a verification section.
 
 ``cautions`` is always present. The result is plain JSON-ready data, numbers unrounded.
+By default every section is computed (the whole result); the page's live request asks
+for ``LIVE_SECTIONS`` and the folded sections as they are opened.
 """
 
 from __future__ import annotations
@@ -39,13 +46,19 @@ from pycore.spectacles.gaze import GazePoint
 from pycore.spectacles.heights import describe_heights, reference_point_height_mm
 from pycore.spectacles.lens import Lens
 
-SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "remedies", "verification")
+SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "reading_map",
+            "sensitivity", "remedies", "remedies_full", "verification")
 """Every result section, in the order ``evaluate`` computes them."""
+
+LIVE_SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "remedies")
+"""What the answer band shows after each keystroke (docs/worker-protocol.md)."""
+
+_ZONE_PARTS = {"reading_zone": "band", "reading_map": "map", "sensitivity": "sensitivity"}
 
 BASIC_SECTIONS = ("points", "eyes", "fitting", "frame")
 """The sections that need no lens-design analysis (fast enough for every keystroke)."""
 
-__all__ = ["BASIC_SECTIONS", "CAUTIONS", "SECTIONS", "evaluate", "evaluate_point",
+__all__ = ["BASIC_SECTIONS", "CAUTIONS", "LIVE_SECTIONS", "SECTIONS", "evaluate", "evaluate_point",
            "resolve_points"]
 
 
@@ -224,10 +237,11 @@ def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
     if "frame" in wanted:
         result["frame"] = describe_frame(case, case.frame)
     result["cautions"] = list(CAUTIONS)
-    if "reading_zone" in wanted:
-        result["reading_zone"] = reading_zone_section(case, result)
-    if "remedies" in wanted:
-        result["remedies"] = remedies_section(case, result)
+    parts = [part for name, part in _ZONE_PARTS.items() if name in wanted]
+    if parts:
+        result["reading_zone"] = reading_zone_section(case, result, parts)
+    if "remedies" in wanted or "remedies_full" in wanted:
+        result["remedies"] = remedies_section(case, result, full="remedies_full" in wanted)
     if "verification" in wanted:
         verdicts = verification_section(case, result)
         if verdicts is not None:

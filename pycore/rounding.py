@@ -33,13 +33,27 @@ def fixed(value: float, digits: int = 2, sign: bool = False) -> str:
 
 
 def without_negative_zero(data: Any) -> Any:
-    """``data`` (JSON-ready) with every -0.0 turned into 0.0, in place where mutable."""
+    """``data`` (JSON-ready) with every -0.0 turned into 0.0, in place where mutable.
+
+    Walks the containers with a stack rather than a call per value: results hold
+    thousands of numbers (the imbalance map)."""
     if isinstance(data, float):
         return 0.0 if data == 0 else data
-    if isinstance(data, dict):
-        for key, item in data.items():
-            data[key] = without_negative_zero(item)
-    elif isinstance(data, list):
-        for index, item in enumerate(data):
-            data[index] = without_negative_zero(item)
+    stack = [data]
+    while stack:
+        item = stack.pop()
+        if isinstance(item, dict):
+            for key, value in item.items():
+                if isinstance(value, float):
+                    if value == 0:
+                        item[key] = 0.0
+                elif isinstance(value, (dict, list)):
+                    stack.append(value)
+        elif isinstance(item, list):
+            for index, value in enumerate(item):
+                if isinstance(value, float):
+                    if value == 0:
+                        item[index] = 0.0
+                elif isinstance(value, (dict, list)):
+                    stack.append(value)
     return data

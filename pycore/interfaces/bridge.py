@@ -9,14 +9,16 @@ from __future__ import annotations
 
 import json
 import traceback
+from collections import OrderedDict
 from collections.abc import Callable
 from typing import Any
 
 from pycore import __version__
 from pycore.documents.cases import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json, read_case
+from pycore.documents.fields import as_object, only_keys
 from pycore.documents.summary import text_summary
 from pycore.errors import CaseError
-from pycore.evaluate import evaluate
+from pycore.evaluate import LIVE_SECTIONS, SECTIONS, evaluate
 from pycore.interfaces import actions
 from pycore.optics.eyes import EYES, Eye
 from pycore.optics.notation import (
@@ -26,14 +28,79 @@ from pycore.optics.notation import (
     written_prism,
 )
 from pycore.optics.power import written_axis, written_dioptres, written_sphere
+from pycore.reading.remedies.side_by_side import opened_remedy
 
 
 def _version(_payload: Any) -> dict[str, Any]:
     return {"version": __version__, "actions": sorted(ACTIONS)}
 
 
+class ResultCache:
+    """The last few results, keyed by the case's canonical JSON (keys sorted) and what
+    was asked of it, so an unchanged input is answered without computing it again.
+    Results are shared, never changed after they are made (the bridge only writes
+    them out as JSON)."""
+
+    def __init__(self, size: int = 8) -> None:
+        self.size = size
+        self._results: OrderedDict[tuple[str, str], Any] = OrderedDict()
+
+    def get(self, case: Any, asked: str, compute: Callable[[], Any]) -> Any:
+        """The result for (``case``, ``asked``): remembered, or ``compute()``d and kept."""
+        key = (json.dumps(case, sort_keys=True, separators=(",", ":"), allow_nan=False),
+               asked)
+        if key in self._results:
+            self._results.move_to_end(key)
+            return self._results[key]
+        result = compute()
+        self._results[key] = result
+        if len(self._results) > self.size:
+            self._results.popitem(last=False)
+        return result
+
+    def clear(self) -> None:
+        self._results.clear()
+
+
+CACHE = ResultCache()
+"""The bridge's results of the last few inputs (a worker serves one page)."""
+
+
 def _evaluate(payload: Any) -> dict[str, Any]:
-    return evaluate(read_case(payload))
+    result: dict[str, Any] = CACHE.get(payload, ",".join(SECTIONS),
+                                       lambda: evaluate(read_case(payload)))
+    return result
+
+
+def _evaluate_live(payload: Any) -> dict[str, Any]:
+    """``{"case", "sections"?}`` -> the evaluate result with only those sections (default
+    the answer band's, ``LIVE_SECTIONS``), in pipeline order."""
+    obj = as_object(payload, "", "a live request")
+    only_keys(obj, "", ("case", "sections"))
+    case = _field(obj, "case")
+    sections = obj.get("sections", list(LIVE_SECTIONS))
+    if not isinstance(sections, list) or not all(isinstance(name, str) for name in sections):
+        raise CaseError("sections", "sections must be a list of section names, such as "
+                                    f"{', '.join(LIVE_SECTIONS)}.")
+    unknown = sorted(set(sections) - set(SECTIONS))
+    if unknown:
+        raise CaseError("sections", f"Unknown result sections: {', '.join(unknown)}; "
+                                    f"known: {', '.join(SECTIONS)}.")
+    wanted = tuple(name for name in SECTIONS if name in sections)
+    result: dict[str, Any] = CACHE.get(case, ",".join(wanted),
+                                       lambda: evaluate(read_case(case), wanted))
+    return result
+
+
+def _open_remedy(payload: Any) -> dict[str, Any]:
+    """``{"case", "remedy"}`` -> ``{"remedy": the entry}``, its figures from its finished
+    case (what the page shows when that remedy is opened)."""
+    obj = as_object(payload, "", "a remedy request")
+    only_keys(obj, "", ("case", "remedy"))
+    case, remedy = _field(obj, "case"), _field(obj, "remedy")
+    result: dict[str, Any] = CACHE.get(
+        case, f"remedy:{remedy}", lambda: {"remedy": opened_remedy(read_case(case), remedy)})
+    return result
 
 
 def _summary(payload: Any) -> dict[str, Any]:
@@ -101,6 +168,8 @@ Action = Callable[[Any], Any]
 ACTIONS: dict[str, Action] = {
     "version": _version,
     "evaluate": _evaluate,
+    "evaluate_live": _evaluate_live,
+    "open_remedy": _open_remedy,
     "summary_text": _summary,
     "describe_prescription": _describe_prescription,
     "describe_prism": _describe_prism,

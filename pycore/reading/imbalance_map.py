@@ -14,6 +14,7 @@ prescribed prism is the wearer's correction, not an imbalance (docs/sources.md).
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass
 from typing import Any
@@ -55,6 +56,9 @@ class NetSampler:
         # decentration prism, say) counts as induced; nothing, and exactly 0, otherwise.
         self._extra_vertical = own.vertical_base_up_right - self.prescribed.vertical_base_up_right
         self._extra_horizontal = own.horizontal_base_in - self.prescribed.horizontal_base_in
+        self.right_lens, self.left_lens = case.right, case.left
+        self.piecewise_linear = not any(lens.progressive is not None and lens.add
+                                        for lens in (case.right, case.left))
         self._right = LensSampler(case.right, "right")
         self._left = LensSampler(case.left, "left")
         self._right_prism, self._left_prism = case.right.prism, case.left.prism
@@ -79,6 +83,11 @@ def _steps(start: float, stop: float, step: float) -> list[float]:
     """From ``start`` by ``step`` up to ``stop`` at most."""
     count = math.floor((stop - start) / step + 1e-9)
     return [start + i * step for i in range(count + 1)]
+
+
+def last_row_mm(depth_mm: float, step_mm: float) -> float:
+    """The drop of the map's last row (the same as ``_steps(0, depth_mm, step_mm)[-1]``)."""
+    return math.floor(depth_mm / step_mm + 1e-9) * step_mm
 
 
 def map_depth_mm(case: Case, requested: float | None, geometry: ReadingGeometry) -> float:
@@ -145,11 +154,20 @@ def reading_path(sampler: NetSampler, depth_mm: float, step_mm: float) -> list[d
     return path
 
 
-def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float,
-                      step_mm: float = 0.5) -> float | None:
+def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float) -> float | None:
     """The smallest drop down the reading path at which the induced vertical imbalance
-    reaches ``threshold`` (found to a few micrometres), or None if it stays below it to
-    ``depth_mm``."""
+    reaches ``threshold``, or None if it stays below it to ``depth_mm``: in closed form
+    where the imbalance is piecewise linear in the drop (no progressive lens), else by
+    sampling and bisection."""
+    if sampler.piecewise_linear:
+        return closed_form_threshold_drop_mm(sampler, threshold, depth_mm)
+    return sampled_threshold_drop_mm(sampler, threshold, depth_mm)
+
+
+def sampled_threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float,
+                              step_mm: float = 0.5) -> float | None:
+    """``threshold_drop_mm`` by sampling every ``step_mm`` and bisecting the first step
+    that passes it (to ``step_mm`` / 4096); it can miss a crossing narrower than a step."""
 
     def over(drop: float) -> bool:
         return abs(sampler.at(drop).induced_vertical) >= threshold
@@ -169,3 +187,92 @@ def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float,
             return high
         previous = drop
     return None
+
+
+def closed_form_threshold_drop_mm(sampler: NetSampler, threshold: float,
+                                  depth_mm: float) -> float | None:
+    """``threshold_drop_mm`` for lenses without a progressive, exactly.
+
+    Along the reading path each eye's point on its lens moves linearly with the drop
+    (down, and in until the reading point), and the prism before an eye is linear in
+    the point within one zone (Prentice's rule for the distance power and for the add
+    about the segment optical centre, a constant slab-off). So the induced imbalance is
+    linear in the drop between breaks: the reading point (the convergence stops),
+    where a point crosses a segment top, a segment outline or a slab line. Each piece
+    is found from two points inside it and solved for the threshold; at a break the
+    value is the one the lens gives there (the top line counts as in the segment)."""
+    breaks = sorted({drop for drop in _path_breaks(sampler, depth_mm) if 0.0 <= drop <= depth_mm})
+    for start, end in itertools.pairwise(breaks):
+        if abs(sampler.at(start).induced_vertical) >= threshold:
+            return start
+        crossing = _linear_crossing(sampler, start, end, threshold)
+        if crossing is not None:
+            return crossing
+    if abs(sampler.at(breaks[-1]).induced_vertical) >= threshold:
+        return breaks[-1]
+    return None
+
+
+def _linear_crossing(sampler: NetSampler, start: float, end: float,
+                     threshold: float) -> float | None:
+    """Where the linear piece between ``start`` and ``end`` (the values inside it, and
+    their limit at ``start``) first reaches +-``threshold``; None if not before ``end``."""
+    x1, x2 = start + (end - start) / 3.0, start + 2.0 * (end - start) / 3.0
+    if x2 - x1 < 1e-9:  # two breaks at the same place, to rounding: no piece between
+        return None
+    y1, y2 = sampler.at(x1).induced_vertical, sampler.at(x2).induced_vertical
+    slope = (y2 - y1) / (x2 - x1)
+    if abs(y1 + slope * (start - x1)) >= threshold:
+        return start  # over at once past the break (a jump at a top line or outline)
+    if slope == 0.0:
+        return None
+    found = [x1 + (target - y1) / slope for target in (threshold, -threshold)]
+    inside = [x for x in found if start < x < end]
+    return min(inside) if inside else None
+
+
+def _path_breaks(sampler: NetSampler, depth_mm: float) -> list[float]:
+    """Drops where the reading path's imbalance may stop being one linear piece."""
+    geometry = sampler.geometry
+    ends = sorted({0.0, depth_mm, *((geometry.reading_drop_mm,)
+                                    if 0.0 < geometry.reading_drop_mm < depth_mm else ())})
+    breaks = list(ends)
+    for low, high in itertools.pairwise(ends):
+        for eye in EYES:
+            lens = sampler.right_lens if eye == "right" else sampler.left_lens
+            # The eye's point moves linearly inside the piece: in = a + b d, up = c + e d.
+            x1, x2 = low + (high - low) / 3.0, low + 2.0 * (high - low) / 3.0
+            (i1, u1), (i2, u2) = geometry.coords(eye, x1), geometry.coords(eye, x2)
+            b, e = (i2 - i1) / (x2 - x1), (u2 - u1) / (x2 - x1)
+            a, c = i1 - b * x1, u1 - e * x1
+            heights = []
+            if lens.add and lens.segment is not None:
+                heights.append(lens.segment.top_mm)
+            if lens.slab_off is not None:
+                heights.append(lens.slab_off.line_mm)
+            if e != 0.0:
+                breaks.extend((height - c) / e for height in heights)
+            segment = lens.segment
+            if lens.add and segment is not None and segment.outline is not None \
+                    and segment.outline.size_mm is not None:
+                breaks.extend(_circle_crossings(
+                    a - segment.optical_centre_in_mm, b, segment.top_mm - c, -e,
+                    segment.outline.circle_centre_below_top_mm, segment.outline.size_mm / 2.0))
+    return breaks
+
+
+def _circle_crossings(across0: float, across_slope: float, below0: float, below_slope: float,
+                      centre_below: float, radius: float) -> list[float]:
+    """Drops d where (across0 + across_slope d, below0 + below_slope d) is on the circle
+    of ``radius`` centred ``centre_below`` under the top line (mm)."""
+    p, q = across0, below0 - centre_below
+    qa = across_slope ** 2 + below_slope ** 2
+    qb = 2.0 * (p * across_slope + q * below_slope)
+    qc = p * p + q * q - radius * radius
+    if qa == 0.0:
+        return []
+    disc = qb * qb - 4.0 * qa * qc
+    if disc < 0.0:
+        return []
+    root = math.sqrt(disc)
+    return [(-qb - root) / (2.0 * qa), (-qb + root) / (2.0 * qa)]

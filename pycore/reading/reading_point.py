@@ -119,8 +119,21 @@ def resolved_rule(case: Case, options: ReadingZoneOptions) -> str:
     return "distance_reference"
 
 
+_LAST: list[tuple[Case, ReadingGeometry]] = []
+"""The last case's geometry: one evaluation asks for it from several sections."""
+
+
 def reading_geometry(case: Case) -> ReadingGeometry:
-    """The gaze geometry of a case; refusals name the reading-zone setting at fault."""
+    """The gaze geometry of a case; refusals name the reading-zone setting at fault.
+    (A case is an immutable value: the last one's geometry is kept and reused.)"""
+    if _LAST and _LAST[0][0] is case:
+        return _LAST[0][1]
+    geometry = _reading_geometry(case)
+    _LAST[:] = [(case, geometry)]
+    return geometry
+
+
+def _reading_geometry(case: Case) -> ReadingGeometry:
     options = options_of(case)
     fitting, assumed = case.fitting, False
     if fitting is None:

@@ -13,6 +13,7 @@ judged on the induced part, since prescribed prism is the wearer's correction.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from typing import Any
 
 from pycore.documents.cases import Case
@@ -22,6 +23,7 @@ from pycore.reading.imbalance_map import (
     GazeNet,
     NetSampler,
     imbalance_map,
+    last_row_mm,
     map_depth_mm,
     reading_path,
     threshold_drop_mm,
@@ -129,16 +131,29 @@ def design_warnings(case: Case, geometry: ReadingGeometry) -> list[str]:
     return warnings
 
 
-def reading_zone_section(case: Case, result: dict[str, Any]) -> dict[str, Any]:
-    """The reading-zone result for a case (see the module docstring)."""
+PARTS = ("band", "map", "sensitivity")
+"""The parts of the section that can be asked for alone (pycore.evaluate names them
+``reading_zone``, ``reading_map`` and ``sensitivity``): the band figures; the map and
+the path down it; the fitting-error table with its warnings."""
+
+
+def reading_zone_section(case: Case, result: dict[str, Any],
+                         parts: Iterable[str] = PARTS) -> dict[str, Any]:
+    """The reading-zone result for a case (see the module docstring): the band figures,
+    and ``path``/``map`` and ``sensitivity`` (with its warnings) where asked for, in
+    the same order of keys as the whole section."""
+    wanted = set(parts)
     options = options_of(case)
     geometry = reading_geometry(case)
     sampler = NetSampler(case, geometry)
     depth = map_depth_mm(case, options.map_depth_mm, geometry)
     distance, reading = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
     crossing = threshold_drop_mm(sampler, options.threshold, depth)
-    errors = sensitivity(case, geometry, options.threshold)
-    warnings = design_warnings(case, geometry) + errors["warnings"]
+    warnings = design_warnings(case, geometry)
+    errors = None
+    if "sensitivity" in wanted:
+        errors = sensitivity(case, geometry, options.threshold)
+        warnings += errors["warnings"]
     section: dict[str, Any] = {
         "threshold": {"vertical": options.threshold, "source": THRESHOLD_SOURCE},
         "geometry": geometry.as_dict(),
@@ -152,16 +167,21 @@ def reading_zone_section(case: Case, result: dict[str, Any]) -> dict[str, Any]:
         "threshold_point": ({eye: geometry.lens_point(eye, crossing).as_dict() for eye in EYES}
                             if crossing is not None else None),
         "over_threshold_at_reading_point": abs(reading.induced_vertical) >= options.threshold,
-        "path": reading_path(sampler, depth, options.map_step_mm),
-        "map": imbalance_map(sampler, depth, options.map_half_width_mm, options.map_step_mm),
-        "image_jump": image_jumps(case),
-        "thinning_prism": _thinning(case),
-        "sensitivity": errors,
-        "warnings": warnings,
     }
-    section["map"]["reading_point"] = {"drop_mm": geometry.reading_drop_mm, "lateral_mm": 0.0}
-    section["map"]["threshold_drop_mm"] = crossing
-    section["summary_lines"] = _summary(section, options.threshold)
+    if "map" in wanted:
+        section["path"] = reading_path(sampler, depth, options.map_step_mm)
+        section["map"] = imbalance_map(sampler, depth, options.map_half_width_mm,
+                                       options.map_step_mm)
+        section["map"]["reading_point"] = {"drop_mm": geometry.reading_drop_mm,
+                                           "lateral_mm": 0.0}
+        section["map"]["threshold_drop_mm"] = crossing
+    section["image_jump"] = image_jumps(case)
+    section["thinning_prism"] = _thinning(case)
+    if errors is not None:
+        section["sensitivity"] = errors
+    section["warnings"] = warnings
+    section["summary_lines"] = _summary(section, options.threshold,
+                                        last_row_mm(depth, options.map_step_mm))
     return section
 
 
@@ -193,7 +213,7 @@ def vertical_words(value: float) -> str:
     return f"{fixed(abs(value))} base up before the {eye} eye"
 
 
-def _summary(section: dict[str, Any], threshold: float) -> list[str]:
+def _summary(section: dict[str, Any], threshold: float, last_row: float) -> list[str]:
     geometry = section["geometry"]
     reading = geometry["reading_point"]
     lines = ["Reading zone",
@@ -215,7 +235,7 @@ def _summary(section: dict[str, Any], threshold: float) -> list[str]:
     drop = section["threshold_drop_mm"]
     if drop is None:
         lines.append(f"  the induced vertical imbalance stays under {fixed(threshold)} down "
-                     f"to {fixed(section['map']['drop_mm'][-1], 0)} mm")
+                     f"to {fixed(last_row, 0)} mm")
     elif drop == 0:
         lines.append(f"  the induced vertical imbalance is {fixed(threshold)} (rule of thumb) "
                      "or more already in the primary position")
@@ -228,4 +248,5 @@ def _summary(section: dict[str, Any], threshold: float) -> list[str]:
             lines.append(f"  image jump at the {eye} segment top: {jump['in_words']}")
     lines.extend(f"  ! {warning}" for warning in section["warnings"])
     return lines
+
 

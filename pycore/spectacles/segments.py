@@ -99,6 +99,14 @@ class SegmentOutline:
             return FLAT_TOP_CENTRE_BELOW_TOP_MM + self.size_mm / 2.0
         return None
 
+    @property
+    def circle_centre_below_top_mm(self) -> float:
+        """How far below the top line the centre of the outline's circle lies (mm; the
+        radius is half the size); 0 for straight-across, which has no circle."""
+        if self.size_mm is None:
+            return 0.0
+        return self.size_mm / 2.0 if self.shape == "round" else FLAT_TOP_CENTRE_BELOW_TOP_MM
+
     def contains(self, across_mm: float, below_top_mm: float) -> bool:
         """Whether a point ``below_top_mm`` under the top line and ``across_mm`` from the
         segment's centre line lies within the outline (the top line counts as inside)."""
@@ -108,7 +116,7 @@ class SegmentOutline:
             return True
         assert self.size_mm is not None
         radius = self.size_mm / 2.0
-        centre_below = radius if self.shape == "round" else FLAT_TOP_CENTRE_BELOW_TOP_MM
+        centre_below = self.circle_centre_below_top_mm
         return math.hypot(across_mm, below_top_mm - centre_below) <= radius + 1e-9
 
     def width_at_mm(self, below_top_mm: float) -> float:

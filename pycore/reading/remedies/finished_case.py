@@ -207,6 +207,9 @@ class Baseline:
     case: Case
     options: ReadingZoneOptions
     figures: Figures
+    evaluate_finished: bool = True
+    """False: take a remedy's figures from its closed form where it has one, without
+    reading and evaluating its finished case (the live request's remedies)."""
 
     @property
     def near(self) -> float:
@@ -225,8 +228,26 @@ def round_to_step(value: float, step: float) -> float:
     return half_up(value, step)
 
 
+def shifted(figures: Figures, distance_vertical: float = 0.0, near_vertical: float = 0.0,
+            horizontal: float = 0.0) -> Figures:
+    """``figures`` with these changes of the net prism (prism dioptres): the closed form
+    of a remedy that adds prism where it is known to act (slab-off below its line,
+    decentration prism everywhere)."""
+    return Figures(figures.distance_vertical + distance_vertical,
+                   figures.distance_horizontal + horizontal,
+                   figures.near_vertical + near_vertical,
+                   figures.near_horizontal + horizontal, figures.geometry, figures.prescribed)
+
+
 def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
-                  distance_from_original: bool = False) -> Remedy:
+                  distance_from_original: bool = False,
+                  closed_form: Figures | None = None) -> Remedy:
+    """The remedy with its finished case and the figures it gives: read and evaluated,
+    or, when the baseline allows it and the remedy gives one, its ``closed_form`` (the
+    same figures, to rounding; tests/test_live_sections.py checks the two agree)."""
+    if closed_form is not None and not baseline.evaluate_finished:
+        remedy.applied, remedy.figures = document, closed_form
+        return remedy
     try:
         case = finished(document)
         figures = Figures.of(case, baseline.figures.prescribed)

@@ -24,6 +24,7 @@ from typing import Any
 
 from pycore.optics.eyes import EYES, Eye, other
 from pycore.optics.prentice import induced_prism
+from pycore.optics.prism import PRISM_LIMIT
 from pycore.reading.remedies.finished_case import (
     Baseline,
     Remedy,
@@ -31,10 +32,11 @@ from pycore.reading.remedies.finished_case import (
     eye_document,
     round_to_step,
     set_prism,
+    shifted,
     with_figures,
 )
 from pycore.rounding import fixed, half_up
-from pycore.spectacles.gaze import LensPoint
+from pycore.spectacles.gaze import LENS_REACH_MM, LensPoint
 from pycore.spectacles.lens import SLAB_OFF_LIMIT, Lens
 from pycore.spectacles.segments import SegmentOutline, image_jump
 
@@ -96,6 +98,11 @@ def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
     remedy.details.update({"line_mm": line, "line_placed": where, "base_up": amount})
     document = copy_document(case)
     eye_document(document, eye)["slab_off"] = {"base_up": amount, "line_mm": line}
+    # The line lies below the distance visual point and at or above the reading point:
+    # the slab's prism reaches the reading point only (nothing else moves).
+    closed = None
+    if lens.slab_off is None and abs(line) <= LENS_REACH_MM:
+        closed = shifted(base.figures, near_vertical=amount if eye == "right" else -amount)
     kind = "reverse slab" if reverse else "slab-off"
     way = "down" if reverse else "up"
     remedy.summary = (f"{kind.capitalize()} on the {eye} lens: {fixed(rounded)} base {way} "
@@ -123,7 +130,7 @@ def slab_off(base: Baseline, reverse: bool = False) -> Remedy:
     if existing:
         remedy.warnings.append(f"The {eye} lens already had {fixed(existing)} of slab-off; "
                                "the finished case carries the total.")
-    return with_figures(remedy, document, base)
+    return with_figures(remedy, document, base, closed_form=closed)
 
 
 SEGMENT_TOP_RULE = "at the segment top (common practice)"
@@ -401,7 +408,16 @@ def lower_centres(base: Baseline) -> Remedy:
         f"height (the pupil centre){_prescribed_words(case.lens(eye))}" for eye in EYES]
     if case.lens("right").segment is not None or case.lens("left").segment is not None:
         remedy.changes.append("The segments stay where they are.")
-    return with_figures(remedy, document, base)
+    # The decentration prism is the same at every point of gaze (closed form), where the
+    # finished prism is one a case may carry.
+    added = {eye: per_mm[eye].scaled(drop) for eye in EYES}
+    finished = [case.lens(eye).prism + added[eye] for eye in EYES]
+    closed = None
+    if all(abs(p.base_in) <= PRISM_LIMIT and abs(p.base_up) <= PRISM_LIMIT for p in finished):
+        vertical = added["right"].base_up - added["left"].base_up
+        closed = shifted(base.figures, vertical, vertical,
+                         added["right"].base_in + added["left"].base_in)
+    return with_figures(remedy, document, base, closed_form=closed)
 
 
 def _prescribed_words(lens: Lens) -> str:

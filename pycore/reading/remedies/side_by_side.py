@@ -58,7 +58,7 @@ def doing_nothing(base: Baseline) -> Remedy:
                       "wearer.")
     remedy.changes = ["Nothing: the spectacles as ordered."]
     remedy.details = {"under_threshold": under}
-    return with_figures(remedy, copy_document(base.case), base)
+    return with_figures(remedy, copy_document(base.case), base, closed_form=base.figures)
 
 
 _BUILDERS: dict[str, Callable[[Baseline], Remedy]] = {
@@ -73,52 +73,87 @@ _BUILDERS: dict[str, Callable[[Baseline], Remedy]] = {
 }
 
 
+def baseline(case: Case, evaluate_finished: bool = True) -> Baseline:
+    """The case as it is, for its remedies (``evaluate_finished``: see Baseline)."""
+    return Baseline(case, options_of(case), Figures.of(case), evaluate_finished)
+
+
+def build(base: Baseline, key: str) -> Remedy:
+    """One remedy by id (see ``ORDER``)."""
+    return _BUILDERS[key](base)
+
+
 def all_remedies(case: Case) -> tuple[Baseline, list[Remedy]]:
-    """Every remedy for the case, in ``ORDER``."""
-    base = Baseline(case, options_of(case), Figures.of(case))
-    return base, [_BUILDERS[key](base) for key in ORDER]
+    """Every remedy for the case, in ``ORDER``, each with its finished case evaluated."""
+    base = baseline(case)
+    return base, [build(base, key) for key in ORDER]
 
 
-def recommended(base: Baseline, remedies: list[Remedy]) -> str:
+def recommended(base: Baseline, remedy: Callable[[str], Remedy]) -> str:
     """A suggestion, not a decision: "none" when the induced imbalance is already under
     the threshold at distance and at the reading point; else the first remedy, in the
     order of preference, that brings the reading point's induced imbalance under it
     without leaving distance over it (or worse than it was), preferring one with no
-    warnings."""
+    warnings. ``remedy`` gives a remedy by id; it is asked only for those it needs."""
     threshold = base.options.threshold
     before = abs(base.distance)
     if abs(base.near) < threshold and before < threshold:
         return "none"
 
-    def good(remedy: Remedy) -> bool:
-        figures = remedy.figures
-        if not remedy.available or figures is None:
+    def good(found: Remedy) -> bool:
+        figures = found.figures
+        if not found.available or figures is None:
             return False
         distance = abs(figures.distance_induced)
         return abs(figures.near_induced) < threshold and (
             distance < threshold or distance <= before + 1e-9)
 
-    by_id = {remedy.id: remedy for remedy in remedies}
     for strict in (True, False):
         for key in _PREFERENCE:
-            if good(by_id[key]) and not (strict and by_id[key].warnings):
+            found = remedy(key)
+            if good(found) and not (strict and found.warnings):
                 return key
     return "none"
 
 
-def remedies_section(case: Case, result: dict[str, Any]) -> dict[str, Any] | None:
-    """The ``remedies`` result: every remedy side by side and the suggested one."""
+def _lazy(base: Baseline) -> Callable[[str], Remedy]:
+    """``build`` for ``base``, each remedy built once, when first asked for."""
+    built: dict[str, Remedy] = {}
+
+    def remedy(key: str) -> Remedy:
+        if key not in built:
+            built[key] = build(base, key)
+        return built[key]
+
+    return remedy
+
+
+def _entry(remedy: Remedy, threshold: float, choice: str) -> dict[str, Any]:
+    entry = remedy.as_dict(threshold)
+    entry["recommended"] = entry["id"] == choice
+    entry["cautions"] = [caution for caution in CAUTIONS
+                         if "slab-off" not in caution or "slab" in entry["id"]]
+    return entry
+
+
+def remedies_section(case: Case, result: dict[str, Any],
+                     full: bool = True) -> dict[str, Any] | None:
+    """The ``remedies`` result: every remedy side by side and the suggested one
+    (``full``); else the suggestion alone: ``options`` holds only the recommended
+    remedy, its figures from closed forms where a remedy has one, and the remedies are
+    built only as far as the choice needs (no ``summary_lines``)."""
     if not case.document:
         return None
-    base, remedies = all_remedies(case)
+    base = baseline(case, evaluate_finished=full)
     threshold = base.options.threshold
-    choice = recommended(base, remedies)
-    entries = [remedy.as_dict(threshold) for remedy in remedies]
-    for entry in entries:
-        entry["recommended"] = entry["id"] == choice
-        entry["cautions"] = [caution for caution in CAUTIONS
-                             if "slab-off" not in caution or "slab" in entry["id"]]
-    return {
+    remedy = _lazy(base)
+    if full:
+        for key in ORDER:
+            remedy(key)
+    choice = recommended(base, remedy)
+    keys = ORDER if full else (choice,)
+    entries = [_entry(remedy(key), threshold, choice) for key in keys]
+    section: dict[str, Any] = {
         "threshold": threshold,
         "before": {"distance": base.figures.distance_vertical,
                    "near": base.figures.near_vertical,
@@ -130,8 +165,22 @@ def remedies_section(case: Case, result: dict[str, Any]) -> dict[str, Any] | Non
         "recommended": choice,
         "options": entries,
         "cautions": list(CAUTIONS),
-        "summary_lines": _summary(base, entries, choice),
     }
+    if full:
+        section["summary_lines"] = _summary(base, entries, choice)
+    return section
+
+
+def opened_remedy(case: Case, remedy_id: Any) -> dict[str, Any]:
+    """One remedy's entry, its figures from its finished case read and evaluated (what
+    the page shows when that remedy is opened); ``recommended`` says whether it is the
+    suggestion. Refusals as CaseError."""
+    if remedy_id not in ORDER:
+        raise CaseError("remedy", f"remedy must be one of {', '.join(ORDER)}.", remedy_id)
+    base = baseline(case)
+    opened = build(base, remedy_id)
+    quick = _lazy(baseline(case, evaluate_finished=False))
+    return _entry(opened, base.options.threshold, recommended(base, quick))
 
 
 def _summary(base: Baseline, entries: list[dict[str, Any]], choice: str) -> list[str]:
@@ -158,10 +207,7 @@ def finished_case(case_document: Any, remedy_id: Any) -> tuple[dict[str, Any], d
     """(the remedy's entry, its finished case document); refusals as CaseError."""
     if remedy_id not in ORDER:
         raise CaseError("remedy", f"remedy must be one of {', '.join(ORDER)}.", remedy_id)
-    case = read_case(case_document)
-    section = remedies_section(case, {})
-    assert section is not None
-    entry = next(e for e in section["options"] if e["id"] == remedy_id)
+    entry = opened_remedy(read_case(case_document), remedy_id)
     if not entry["available"] or entry["applied_case"] is None:
         raise CaseError("remedy", f"remedy {remedy_id} does not apply to this case: "
                                   f"{entry['why_not']}", remedy_id)
