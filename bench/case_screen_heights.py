@@ -15,10 +15,11 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests" / "e2e"))
 
-import build  # noqa: E402
 from conftest import CHROMIUM, CHROMIUM_ARGS, Site  # noqa: E402
 from e2e_support import case_fragment, wait_result  # noqa: E402
 from playwright.sync_api import sync_playwright  # noqa: E402
+
+import build  # noqa: E402
 
 CASE = {
     "right": {"sphere": 4.5, "cylinder": -0.5, "axis": 90, "add": 2.5,

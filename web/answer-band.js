@@ -62,7 +62,7 @@ function remedyLine(result, over, onApply) {
   const section = result.remedies;
   if (!section) return null;
   const id = section.recommended;
-  const index = section.options.findIndex((o) => o.id === id);
+  const index = section.options.findIndex((o) => o && o.id === id);
   const tag = (text) => el("span", { class: "band-remedy-name", "data-key": "remedies.recommended", "data-value": String(id) }, text);
   if (id === "none" || index < 0) {
     return el("p", { class: "band-remedy is-none" }, over ? "Suggested: " : "", tag(over ? "no change" : "No remedy needed."));

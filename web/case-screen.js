@@ -12,6 +12,8 @@ import { setUpZone } from "./zone.js";
 // Short enough that each keystroke visibly changes the band (issue 12: <= 60 ms).
 export const DEBOUNCE_MS = 50;
 const MAX_MARKED = 6; // bad fields marked at once
+const LIVE_SECTIONS = ["points", "eyes", "fitting", "frame", "reading_zone", "remedies"];
+const ON_OPEN = { "sec-map": ["reading_map"], "sec-remedies": ["remedies_full"], "sec-errors": ["sensitivity"] };
 const $ = (selector) => document.querySelector(selector);
 
 // host: {messenger, say(text), onFirstResult()}
@@ -90,7 +92,8 @@ export function setUpCaseScreen(host) {
     keep(doc);
     inFlight = true;
     const started = performance.now();
-    const reply = await messenger.request("evaluate", doc);
+    // Only what is on screen: the band's sections, and a folded section once opened.
+    const reply = await messenger.request("evaluate_live", { case: doc, sections: wantedSections() });
     performance.measure("pd:answer", { start: started, end: performance.now() });
     const more = reply.ok || messenger.state === "failed" || messenger.state === "stopped" || reply.error.code
       ? [] : await moreErrors(doc, reply.error, inputs);
@@ -116,6 +119,20 @@ export function setUpCaseScreen(host) {
       showErrors([reply.error, ...more], inputs);
     }
   }
+
+  // Sections the band needs on every edit, and those a folded section adds when open.
+  function wantedSections() {
+    const wanted = [...LIVE_SECTIONS];
+    for (const [id, extra] of Object.entries(ON_OPEN)) {
+      if (document.getElementById(id)?.open) wanted.push(...extra);
+    }
+    return wanted;
+  }
+  // Opening a folded section asks for what it shows (toggle does not bubble: capture it).
+  body.addEventListener("toggle", (event) => {
+    const id = event.target && event.target.id;
+    if (event.target.open && Object.hasOwn(ON_OPEN, id)) schedule(0);
+  }, true);
 
   // The core names one bad field at a time: ask again without it (or with it
   // at zero, for a field that must be given) to find the others, so that
@@ -371,7 +388,13 @@ export function setUpCaseScreen(host) {
   window.addEventListener("popstate", () => fromAddress("Back to the case before."));
   window.addEventListener("hashchange", () => fromAddress("Opened the case in the address."));
 
-  $("#print-case").addEventListener("click", () => {
+  $("#print-case").addEventListener("click", async () => {
+    // The order note lists every remedy: ask for the whole result first.
+    if (lastGood) {
+      const reply = await messenger.request("evaluate", lastGood.doc);
+      if (reply.ok) lastGood = { doc: lastGood.doc, result: reply.result };
+      printPending = true;
+    }
     drawPrintSummary();
     window.print();
   });

@@ -264,6 +264,7 @@ export function printRemedies(result) {
   if (!section) return null;
   const rows = section.options.map((option, i) => {
     const base = `remedies.options.${i}`;
+    if (!option) return null; // not worked out in a live answer
     if (!option.available) {
       return el("tr", {}, el("th", { scope: "row" }, fig(result, `${base}.name`)),
         el("td", { colspan: "3" }, "does not apply: ", fig(result, `${base}.why_not`)));
@@ -277,5 +278,5 @@ export function printRemedies(result) {
   return el("table", { class: "print-remedies" },
     el("thead", {}, el("tr", {}, ...["Remedy", "At distance", "At the reading point", "What it is"].map((t) =>
       el("th", { scope: "col", text: t })))),
-    el("tbody", {}, ...rows));
+    el("tbody", {}, ...rows.filter(Boolean)));
 }

@@ -309,7 +309,7 @@ export function renderPrintSummary(node, doc, result, chosen = null) {
   const section = result.remedies;
   if (section) {
     const id = chosen ? chosen.id : section.recommended;
-    const i = section.options.findIndex((o) => o.id === id);
+    const i = section.options.findIndex((o) => o && o.id === id);
     const option = section.options[i];
     const base = `remedies.options.${i}`;
     const order = chosen

@@ -411,7 +411,11 @@ export function setUpZone(host) {
     }
     if (!result.reading_zone) return;
     const rerender = (selector) => render(state.last, selector);
-    const section = el("section", { class: "zone", id: "zone-section", "aria-label": "Reading zone" },
+    // A folded section's figures come when it is opened (the page then asks for them).
+    const pending = () => el("p", { class: "sec-pending", text: "Working out this section…" });
+    const zone = result.reading_zone;
+    const section = !zone.map ? el("section", { class: "zone", id: "zone-section" }, pending())
+      : el("section", { class: "zone", id: "zone-section", "aria-label": "Reading zone" },
       ...keyFigures(result),
       mapFigure(result, state, rerender),
       el("div", { class: "zblock" }, el("h4", { text: "Lens designs" }), lensDrawings(result, state.doc || {}),
@@ -419,11 +423,14 @@ export function setUpZone(host) {
       jumpBlock(result), thinningBlock(result), warningsBlock(result));
     sec("sec-map").querySelector("#zone-section")?.remove();
     sec("sec-map").append(section);
-    const remedies = renderRemedies(result, { onApply: apply });
+    const sideBySide = result.remedies && result.remedies.options.every((o) => o);
+    const remedies = !result.remedies ? null
+      : sideBySide ? renderRemedies(result, { onApply: apply })
+        : el("div", { id: "zone-remedies" }, pending());
     sec("sec-remedies").querySelector("#zone-remedies")?.remove();
     if (remedies) sec("sec-remedies").append(remedies);
     else sec("sec-remedies").hidden = true;
-    const errors = sensitivityBlock(result);
+    const errors = zone.sensitivity ? sensitivityBlock(result) : el("div", {}, pending());
     if (errors) sec("sec-errors").append(errors);
     else sec("sec-errors").hidden = true;
     sec("sec-sources").append(sourcesBlock(result));
@@ -441,7 +448,7 @@ export function setUpZone(host) {
   function showInUse(result) {
     const zone = result.reading_zone;
     const options = result.remedies ? result.remedies.options : [];
-    const index = (id) => options.findIndex((o) => o.id === id);
+    const index = (id) => options.findIndex((o) => o && o.id === id);
     const slab = index("slab_off");
     const lower = index("lower_centres");
     const parts = {};

@@ -446,7 +446,7 @@ def test_a_runtime_file_that_fails_to_download_fails_at_once(browser, site, file
         assert raw not in text
     assert page.get_attribute("#engine", "data-state") == "failed"
     assert page.is_visible("#engine-action:has-text('Reload')")
-    assert page.input_value("#right-sphere") == "+2.25"              # the case is kept (written the trade's way)
+    assert page.input_value("#right-sphere") == "+2.25"   # kept, written the trade's way
     page.unroute(f"**/pyodide/{file}")
     with page.expect_navigation():
         page.click("#engine-action")

@@ -139,9 +139,10 @@ def _entry(remedy: Remedy, threshold: float, choice: str) -> dict[str, Any]:
 def remedies_section(case: Case, result: dict[str, Any],
                      full: bool = True) -> dict[str, Any] | None:
     """The ``remedies`` result: every remedy side by side and the suggested one
-    (``full``); else the suggestion alone: ``options`` holds only the recommended
-    remedy, its figures from closed forms where a remedy has one, and the remedies are
-    built only as far as the choice needs (no ``summary_lines``)."""
+    (``full``); else the suggestion alone: ``options`` keeps every remedy's place but
+    holds only the recommended remedy (the others null), its figures from closed forms
+    where a remedy has one, and the remedies are built only as far as the choice needs
+    (no ``summary_lines``)."""
     if not case.document:
         return None
     base = baseline(case, evaluate_finished=full)
@@ -151,8 +152,10 @@ def remedies_section(case: Case, result: dict[str, Any],
         for key in ORDER:
             remedy(key)
     choice = recommended(base, remedy)
-    keys = ORDER if full else (choice,)
-    entries = [_entry(remedy(key), threshold, choice) for key in keys]
+    # Every remedy keeps its place in ``options`` (so a dotted path means the same in
+    # the live and the full result); the live answer leaves the others null.
+    entries = [_entry(remedy(key), threshold, choice) if full or key == choice else None
+               for key in ORDER]
     section: dict[str, Any] = {
         "threshold": threshold,
         "before": {"distance": base.figures.distance_vertical,
