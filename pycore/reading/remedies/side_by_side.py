@@ -170,7 +170,7 @@ def remedies_section(case: Case, result: dict[str, Any],
         "cautions": list(CAUTIONS),
     }
     if full:
-        section["summary_lines"] = _summary(base, entries, choice)
+        section["summary_lines"] = _summary(base, [e for e in entries if e is not None], choice)
     return section
 
 
