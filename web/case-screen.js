@@ -128,10 +128,19 @@ export function setUpCaseScreen(host) {
     }
     return wanted;
   }
+  function sectionShown(id) {
+    const result = lastGood && lastGood.result;
+    if (!result || !result.reading_zone) return true; // nothing to add to
+    if (id === "sec-map") return Boolean(result.reading_zone.map);
+    if (id === "sec-errors") return Boolean(result.reading_zone.sensitivity);
+    if (id === "sec-remedies") return !result.remedies || result.remedies.options.every((o) => o);
+    return true;
+  }
   // Opening a folded section asks for what it shows (toggle does not bubble: capture it).
   body.addEventListener("toggle", (event) => {
     const id = event.target && event.target.id;
-    if (event.target.open && Object.hasOwn(ON_OPEN, id)) schedule(0);
+    // Restoring an open section on redraw also fires toggle: ask only when its figures are missing.
+    if (event.target.open && Object.hasOwn(ON_OPEN, id) && !sectionShown(id)) schedule(0);
   }, true);
 
   // The core names one bad field at a time: ask again without it (or with it

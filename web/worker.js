@@ -278,7 +278,7 @@ self.addEventListener("message", async (e) => {
   }
   // Once the first full answer is out (and the core's lazy imports are done),
   // keep an image of the warmed interpreter for the next visit.
-  if (!imageQueued && action === "evaluate" && reply.ok) {
+  if (!imageQueued && (action === "evaluate" || action === "evaluate_live") && reply.ok) {
     imageQueued = true;
     mark("first");
     self.postMessage({ event: "timings", timings });

@@ -134,3 +134,21 @@ def assert_figures_match(page: Any, expected: dict[str, Any]) -> int:
         for field in ("transposed_written", "horizontal_power", "vertical_power"):
             assert f"eyes.{eye}.{field}" in keys
     return len(shown)
+
+
+AXE = ROOT / "node_modules" / "axe-core" / "axe.min.js"
+
+
+def serious_violations(page: Any) -> list[str]:
+    """axe-core's serious and critical findings on the page as it is now."""
+    if not AXE.exists():
+        raise AssertionError("node_modules/axe-core is missing: run npm ci")
+    if not page.evaluate("() => typeof axe === 'object'"):
+        page.add_script_tag(path=str(AXE))
+    found: list[str] = page.evaluate("""async () => {
+        const r = await axe.run(document, {resultTypes: ['violations']});
+        return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
+            .map(v => v.id + ': ' + v.help + ' -> '
+                      + v.nodes.map(n => n.target.join(' ')).join(', '));
+    }""")
+    return found

@@ -5,9 +5,14 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
-from e2e_support import CASES, ROOT, SCREENS, case_fragment, result_seq, wait_result
-
-AXE = ROOT / "node_modules" / "axe-core" / "axe.min.js"
+from e2e_support import (
+    CASES,
+    SCREENS,
+    case_fragment,
+    result_seq,
+    serious_violations,
+    wait_result,
+)
 
 
 @pytest.fixture
@@ -21,18 +26,6 @@ def axe_page(browser, watch):
     ctx.close()
     assert not watch.unexpected(), watch.unexpected()
 
-
-def serious_violations(page):
-    if not AXE.exists():
-        pytest.skip("node_modules/axe-core is missing: run npm ci")
-    page.add_script_tag(path=str(AXE))
-    found = page.evaluate("""async () => {
-        const r = await axe.run(document, {resultTypes: ['violations']});
-        return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> '
-                      + v.nodes.map(n => n.target.join(' ')).join(', '));
-    }""")
-    return found
 
 
 @pytest.mark.parametrize("width,height", [(360, 740), (1024, 768)])

@@ -19,9 +19,8 @@ from typing import Any
 
 import pytest
 from conftest import Watch
-from e2e_support import ROOT, cli_evaluate, lookup, wait_result
+from e2e_support import ROOT, cli_evaluate, lookup, serious_violations, wait_result
 
-AXE = ROOT / "node_modules" / "axe-core" / "axe.min.js"
 SHOTS = ROOT / "test-results" / "screens"
 SIZES = [(360, 740), (768, 1024), (1024, 768)]
 
@@ -94,18 +93,6 @@ def too_wide(page: Any) -> list[str]:
                       + Math.round(e.getBoundingClientRect().right));
     }""")
 
-
-def serious_violations(page: Any) -> list[str]:
-    if not AXE.exists():
-        pytest.skip("node_modules/axe-core is missing: run npm ci")
-    if not page.evaluate("() => typeof axe === 'object'"):
-        page.add_script_tag(path=str(AXE))
-    return page.evaluate("""async () => {
-        const r = await axe.run(document, {resultTypes: ['violations']});
-        return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> '
-                      + v.nodes.map(n => n.target.join(' ')).join(', '));
-    }""")
 
 
 @pytest.fixture(scope="module")

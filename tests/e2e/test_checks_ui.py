@@ -20,9 +20,8 @@ from typing import Any
 
 import pytest
 from conftest import Site, Watch
-from e2e_support import CASES, ROOT, SCREENS, case_fragment, lookup
+from e2e_support import CASES, ROOT, SCREENS, case_fragment, lookup, serious_violations
 
-AXE = ROOT / "node_modules" / "axe-core" / "axe.min.js"
 STORE = "prism-desk.checks."
 
 # ---------------------------------------------------------------- inputs the tests type
@@ -644,18 +643,6 @@ def looks(browser: Any, site: Site) -> Any:
     ctx.close()
     assert not watch.unexpected(), watch.unexpected()
 
-
-def serious_violations(page: Any) -> list[str]:
-    if not AXE.exists():
-        pytest.skip("node_modules/axe-core is missing: run npm ci")
-    if not page.evaluate("() => typeof axe !== 'undefined'"):
-        page.add_script_tag(path=str(AXE))
-    return page.evaluate("""async () => {
-        const r = await axe.run(document, {resultTypes: ['violations']});
-        return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> ' +
-                      v.nodes.map(n => n.target.join(' ')).join(', '));
-    }""")
 
 
 @pytest.mark.parametrize("width,height", [(360, 740), (1024, 768)])

@@ -103,7 +103,7 @@ def test_engine_failure_is_explained_and_input_kept(context, site, watch):
     page.wait_for_selector("#results[data-status=failed]")
     text = page.text_content("#result-body")
     assert "could not start" in text and "WebAssembly" in text
-    assert page.input_value("#right-sphere") == "2.25"
+    assert page.input_value("#right-sphere") == "+2.25"   # kept, written the trade's way
     page.fill("#right-sphere", "2.5")                   # still editable, still kept
     page.wait_for_function("() => location.hash.length > 10")
     page.wait_for_timeout(300)
@@ -146,7 +146,7 @@ def test_repeat_visit_restores_the_interpreter_image(context, site, watch):
     assert_figures_match(again, cli_evaluate(address_case(again)))
     again.fill("#left-axis", "181")                       # refusals still work
     wait_result(again, status="stale")
-    assert "left.axis" in again.text_content("#left-axis-error")
+    assert "Left axis" in again.text_content("#left-axis-error")   # in words
     again.fill("#left-axis", "45")
     again.click("#add-point")
     again.locator("#custom-points li").last.locator("[data-field='left.up_mm']").fill("-12")

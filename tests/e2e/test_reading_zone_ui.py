@@ -27,10 +27,10 @@ from e2e_support import (
     cli_evaluate,
     figures,
     result_seq,
+    serious_violations,
     wait_result,
 )
 
-AXE = ROOT / "node_modules" / "axe-core" / "axe.min.js"
 EXAMPLES = ROOT / "examples"
 BIFOCAL = json.loads((EXAMPLES / "boat-builder-bifocal.json").read_text())
 PROGRESSIVE = json.loads((EXAMPLES / "orchard-keeper-progressive.json").read_text())
@@ -60,8 +60,18 @@ def cli_apply(remedy: str, doc: dict[str, Any], *args: str) -> dict[str, Any]:
 
 
 def unfold(page: Any) -> None:
-    """Open the folded result sections (they stay open across recomputes)."""
-    page.evaluate("() => document.querySelectorAll('details.sec').forEach(d => { d.open = true; })")
+    """Open the folded result sections (they stay open across recomputes); opening one
+    asks the core for what it shows, so wait for that answer."""
+    seq = result_seq(page)
+    opened = page.evaluate("""() => {
+        let n = 0;
+        document.querySelectorAll('details.sec').forEach(d => {
+            if (!d.open) { d.open = true; n++; }
+        });
+        return n;
+    }""")
+    if opened:
+        wait_result(page, after=seq)
 
 
 def open_case(page: Any, doc: dict[str, Any]) -> None:
@@ -409,18 +419,6 @@ def axe_page(browser: Any, watch: Watch) -> Iterator[Any]:
     ctx.close()
     assert not watch.unexpected(), watch.unexpected()
 
-
-def serious_violations(page: Any) -> list[str]:
-    if not AXE.exists():
-        pytest.skip("node_modules/axe-core is missing: run npm ci")
-    if not page.evaluate("() => typeof axe === 'object'"):
-        page.add_script_tag(path=str(AXE))
-    return page.evaluate("""async () => {
-        const r = await axe.run(document, {resultTypes: ['violations']});
-        return r.violations.filter(v => v.impact === 'serious' || v.impact === 'critical')
-            .map(v => v.id + ': ' + v.help + ' -> '
-                      + v.nodes.map(n => n.target.join(' ')).join(', '));
-    }""")
 
 
 def test_no_serious_accessibility_problems_with_the_map(axe_page, site):
