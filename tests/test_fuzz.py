@@ -53,7 +53,7 @@ BATCH_CSV = ("name,right.sphere,left.sphere,points.0.right.in_mm,points.0.right.
              "tram driver,-2,-1,2,-8,2,-8\nharbour pilot,+1.25,+0.5,0,-6,0,-6\n")
 STOCK_CSV = "id,power,oc_distance_mm,frame_size,count\nK60,2.00,60,50-16,4\nK64,2.25,64,,1\n"
 
-# (arguments, seed document or text, how the input is given)
+# (arguments, starting document or text, how the input is given)
 COMMANDS: list[tuple[list[str], Any, str]] = [
     (["evaluate", "-"], CASE, "stdin"),
     (["evaluate", "-", "--text"], CASE, "stdin"),
