@@ -7,6 +7,7 @@ import json
 import math
 import subprocess
 import sys
+from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
@@ -152,3 +153,20 @@ def serious_violations(page: Any) -> list[str]:
                       + v.nodes.map(n => n.target.join(' ')).join(', '));
     }""")
     return found
+
+
+def ready_app(browser: Any, site: Any, **context: Any) -> Iterator[Any]:
+    """A page of the app with the calculator ready, in a context of its own; after use,
+    no page error or unexpected console error (use with ``yield from`` in a fixture)."""
+    from conftest import Watch
+
+    watch = Watch()
+    ctx = browser.new_context(**context)
+    ctx.set_default_timeout(90_000)
+    watch.attach(ctx)
+    page = ctx.new_page()
+    page.goto(site.url)
+    page.wait_for_selector("#engine[data-state=ready]")
+    yield page
+    ctx.close()
+    assert not watch.unexpected(), watch.unexpected()

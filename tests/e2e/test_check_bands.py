@@ -14,8 +14,8 @@ import json
 from typing import Any
 
 import pytest
-from conftest import Site, Watch
-from e2e_support import SCREENS
+from conftest import Site
+from e2e_support import SCREENS, ready_app
 from test_checks_ui import (
     DEVIATION_FIELDS,
     READERS_FIELDS,
@@ -34,16 +34,7 @@ SHOTS = SCREENS
 
 @pytest.fixture(scope="module")
 def phone(browser: Any, site: Site) -> Any:
-    watch = Watch()
-    ctx = browser.new_context(viewport={"width": 360, "height": 740})
-    ctx.set_default_timeout(90_000)
-    watch.attach(ctx)
-    page = ctx.new_page()
-    page.goto(site.url)
-    page.wait_for_selector("#engine[data-state=ready]")
-    yield page
-    ctx.close()
-    assert not watch.unexpected(), watch.unexpected()
+    yield from ready_app(browser, site, viewport={"width": 360, "height": 740})
 
 
 def band(page: Any, selector: str) -> dict[str, str]:

@@ -19,6 +19,7 @@ from e2e_support import (
     assert_figures_match,
     case_fragment,
     cli_evaluate,
+    ready_app,
     result_seq,
     wait_result,
 )
@@ -33,16 +34,8 @@ STOCK_ROWS = [
 
 @pytest.fixture(scope="module")
 def app(browser: Any, site: Site) -> Any:
-    watch = Watch()
-    ctx = browser.new_context(viewport={"width": 1024, "height": 768}, accept_downloads=True)
-    ctx.set_default_timeout(90_000)
-    watch.attach(ctx)
-    page = ctx.new_page()
-    page.goto(site.url)
-    page.wait_for_selector("#engine[data-state=ready]")
-    yield page
-    ctx.close()
-    assert not watch.unexpected(), watch.unexpected()
+    yield from ready_app(browser, site, viewport={"width": 1024, "height": 768},
+                         accept_downloads=True)
 
 
 def fresh(page: Any, url: str, storage: dict[str, str] | None = None) -> None:
