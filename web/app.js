@@ -19,7 +19,7 @@ const statusLine = $("#result-status");
 // Before anything is written: an unreadable store is kept aside, an older one upgraded.
 const storage = store.openStorage();
 
-let caseScreen = null; // set up once the messenger exists
+export let caseScreen = null; // set up once the messenger exists (views.js shows and hides it)
 let failedEarly = null; // a failure reported before the case screen was set up
 
 // Shared with other screens (they import these from this module).

@@ -424,7 +424,14 @@ export function setUpCaseScreen(host) {
     if (arrived) say(arrived.problem + (draft ? " Below is the case you last worked on in this browser." : ""));
   }
 
+  // The shape every screen has (DEVELOPERS.md, "Screens"). The case screen's
+  // markup is in index.html, so that it can be typed in while the runtime downloads.
+  const parts = [$(".casebar"), $("#main")];
   return {
+    root: $("#main"),
+    resultsId: "results",
+    show() { for (const part of parts) part.hidden = false; },
+    hide() { for (const part of parts) part.hidden = true; },
     loadCase, remember, start, engineFailed,
     recompute: () => schedule(0),
     collect: () => caseForm.collect(),

@@ -238,15 +238,60 @@ function firstLine(node) {
   return copy.textContent.trim();
 }
 
+// ---------------------------------------------------------------- the answer band
+// The answer a person reads first (the verdict, the pair to hand out, the
+// deviation at the eye). It sits under the screen's title, before the form:
+// pinned to the top of a phone or portrait tablet while the form scrolls under
+// it, heading the results column on wider screens. Before any answer it says
+// what to enter; when the input is refused it keeps the last answer, marked out
+// of date, and names the field.
+export function answerSlot({ id, action, label, prompt, after = [] }) {
+  const content = el("div", { class: "band-content" }, el("p", { class: "band-prompt", text: prompt }));
+  const slot = el("section", { class: "check-band", id, "data-action": action, "aria-label": label, "data-state": "empty" },
+    content, ...after);
+  slot.prompt = prompt;
+  slot.content = content;
+  return slot;
+}
+
+// ---------------------------------------------------------------- a check screen's shape
+// What every check screen returns (DEVELOPERS.md, "Screens"): the screen starts
+// (loads its tables, runs its first calculation) the first time it is shown,
+// and a restarted engine recomputes it.
+export function checkScreen({ root, resultsId, calc, start = () => {} }) {
+  let started = false;
+  document.addEventListener("pd:engine-restarted", () => {
+    if (started) calc.schedule(0);
+  });
+  return {
+    root,
+    resultsId,
+    calc,
+    show() {
+      root.hidden = false;
+      if (started) return;
+      started = true;
+      start();
+      calc.run();
+    },
+    hide() {
+      root.hidden = true;
+    },
+  };
+}
+
 // ---------------------------------------------------------------- one screen's calculation
 // Sends the screen's payload to the core (debounced, one request at a time, only
 // the newest answer drawn), keeps the last good result on screen and marks it out
-// of date when the input is refused, and marks the refused field.
+// of date when the input is refused, and marks the refused field. render(body,
+// result, doc) draws the details and returns the answer band's content, which
+// goes into the screen's answer slot (band).
 export class Calculation {
-  constructor({ messenger, action, results, build, render, hint, aliases = () => ({}), onShown = () => {} }) {
+  constructor({ messenger, action, results, band, build, render, hint, aliases = () => ({}), onShown = () => {} }) {
     this.messenger = messenger;
     this.action = action;
     this.results = results;
+    this.band = band;
     this.status = results.querySelector(".check-status");
     this.body = results.querySelector(".check-body");
     this.build = build;
@@ -285,6 +330,8 @@ export class Calculation {
       delete this.results.dataset.request;
       this.status.textContent = "";
       this.body.replaceChildren(el("p", { class: "empty", text: this.hint }));
+      this.band.dataset.state = "empty";
+      this.band.content.replaceChildren(el("p", { class: "band-prompt", text: this.band.prompt }));
       return;
     }
     this.inFlight = true;
@@ -305,7 +352,9 @@ export class Calculation {
     this.lastGood = { doc, result };
     // Sections the user opened stay open across recomputes.
     const open = new Set([...this.body.querySelectorAll("details[open][data-remember]")].map((d) => d.dataset.remember));
-    this.render(this.body, result, doc);
+    const answer = this.render(this.body, result, doc);
+    this.band.content.replaceChildren(answer);
+    this.band.dataset.state = "current";
     for (const details of this.body.querySelectorAll("details[data-remember]")) {
       if (open.has(details.dataset.remember)) details.open = true;
     }
@@ -322,6 +371,7 @@ export class Calculation {
       // The engine failed or timed out: the input is kept, nothing is marked.
       this.results.dataset.status = this.messenger.state === "failed" ? "failed" : (this.lastGood ? "stale" : "error");
       this.status.replaceChildren(el("span", { class: "problem", text: error.message }));
+      this.bandProblem(null, error.message);
       return;
     }
     const input = inputFor(error.field || "", inputs, this.aliases());
@@ -332,6 +382,19 @@ export class Calculation {
     this.status.replaceChildren(el("span", { class: "problem" }, lead,
       el("strong", { text: name + ": " }), error.message));
     if (!this.lastGood) this.body.replaceChildren(el("p", { class: "empty", text: this.hint }));
+    this.bandProblem(name, error.message);
+  }
+
+  // The band keeps the last answer, marked out of date, under one line naming
+  // what was refused; with no answer yet it shows that line and the prompt.
+  bandProblem(name, message) {
+    this.band.dataset.state = this.lastGood ? "stale" : "error";
+    const line = el("p", { class: "band-problem" },
+      name ? el("strong", { text: name + ": " }) : null, message);
+    const content = this.band.content;
+    const rest = this.lastGood ? [...content.children].filter((c) => !c.classList.contains("band-problem"))
+      : [el("p", { class: "band-prompt", text: this.band.prompt })];
+    content.replaceChildren(line, ...rest);
   }
 
   mark(input, name, message) {

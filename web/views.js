@@ -2,9 +2,9 @@
 // pair check, ready-made readers and deviation through glasses. The last
 // screen used is remembered on the device. Built here, after app.js has set up
 // the case form, so that these screens' inputs never mix with the case's.
-import { messenger, offerOffline } from "./app.js";
+import { caseScreen, messenger, offerOffline } from "./app.js";
 import { el, loadSaved, save } from "./checks-common.js";
-import { createVerifyScreen } from "./verify.js";
+import { createVerifyScreen } from "./screens/verify.js";
 import { createReadersScreen } from "./screens/readers.js";
 import { createDeviationScreen } from "./screens/deviation.js";
 
@@ -14,12 +14,15 @@ const SCREENS = [
   { name: "readers", label: "Readers", long: "ready-made, outreach" },
   { name: "deviation", label: "Deviation", long: "through glasses" },
 ];
-const MAKERS = { verify: createVerifyScreen, readers: createReadersScreen, deviation: createDeviationScreen };
+// The case screen is set up by app.js (it shares the header's Save and Open);
+// the others are built here the first time they are opened.
+const MAKERS = { case: () => caseScreen, verify: createVerifyScreen, readers: createReadersScreen,
+  deviation: createDeviationScreen };
 
 const masthead = document.querySelector(".masthead");
 const skip = document.querySelector(".skip");
 // Each screen module exports create…Screen(context) -> {root, show(), hide(), resultsId}
-// (DEVELOPERS.md, "Screens"); screens built before that shape have shown().
+// (DEVELOPERS.md, "Screens").
 const built = new Map();
 const context = {
   messenger,
@@ -59,7 +62,7 @@ function screenRoot(name) {
   if (!built.has(name)) {
     const screen = MAKERS[name](context);
     // Placed after the case screen's main, before the print summary and notices.
-    document.querySelector("#main").after(screen.root);
+    if (name !== "case") document.querySelector("#main").after(screen.root);
     built.set(name, screen);
   }
   return built.get(name);
@@ -72,21 +75,11 @@ export function show(name, { focus = false } = {}) {
     if (tab.dataset.screen === name) tab.setAttribute("aria-current", "page");
     else tab.removeAttribute("aria-current");
   }
-  for (const [other, screen] of built) {
-    if (other === name) continue;
-    if (screen.hide) screen.hide();
-    else screen.root.hidden = true;
-  }
-  if (name !== "case") {
-    const screen = screenRoot(name);
-    screen.root.hidden = false;
-    if (screen.show) screen.show();
-    else screen.shown();
-    if (skip) skip.href = "#" + screen.resultsId;
-    if (focus) screen.root.querySelector("h2")?.focus();
-  } else if (skip) {
-    skip.href = "#results";
-  }
+  for (const [other, screen] of built) if (other !== name) screen.hide();
+  const screen = screenRoot(name);
+  screen.show();
+  if (skip) skip.href = "#" + screen.resultsId;
+  if (focus) screen.root.querySelector("h2")?.focus();
   save("screen", name);
   window.scrollTo(0, 0);
 }
@@ -98,9 +91,4 @@ const fromLink = arrival && arrival.type === "navigate" && location.hash.startsW
 show(fromLink ? "case" : loadSaved("screen", "case"));
 window.addEventListener("hashchange", () => {
   if (location.hash.startsWith("#case=")) show("case");
-});
-// The verify screen predates the shared shape; restarted engines recompute it too.
-document.addEventListener("pd:engine-restarted", () => {
-  const verify = built.get("verify");
-  if (verify && verify.calc) verify.calc.schedule(0);
 });

@@ -1,4 +1,9 @@
-"""Answer first on the readers and deviation screens, at phone and tablet widths.
+"""Answer first on the check screens (readers, deviation, pair check) on a phone.
+
+Each screen's answer band sits under its title, before the form, and stays
+pinned while the form scrolls: on a 360 x 740 phone it is read in the first
+viewport without scrolling, and stays in view while the person types further
+down.
 
 The band's figures carry data-key/data-value; each is compared with the
 command line's answer for the request the screen sent (``python -m pycore
@@ -20,6 +25,7 @@ from test_checks_ui import (
     DEVIATION_FIELDS,
     READERS_FIELDS,
     STOCK,
+    VERIFY_FIELDS,
     assert_same,
     cli,
     cli_readers,
@@ -63,6 +69,47 @@ def in_view(page: Any, selector: str) -> bool:
     }""", selector)
 
 
+def answer_in_first_viewport(page: Any, figure: str, action: str, lower: str) -> None:
+    """The answer and what to do are in view at the top of the page (no scrolling),
+    and stay in view while a field further down is in use."""
+    page.evaluate("() => window.scrollTo(0, 0)")
+    assert in_view(page, figure), f"{figure} not in the first viewport"
+    assert in_view(page, action), f"{action} not in the first viewport"
+    SHOTS.mkdir(exist_ok=True)
+    name = figure.split("-")[0].lstrip("#")
+    page.screenshot(path=str(SHOTS / f"{name}-360-first-viewport.png"), full_page=False)
+    page.locator(lower).scroll_into_view_if_needed()
+    assert page.evaluate("() => window.scrollY") > 0
+    assert in_view(page, figure), f"{figure} scrolled away with the form"
+
+
+def test_pair_check_verdict_is_in_a_phones_first_viewport(phone):
+    page = phone
+    page.click("#tab-verify")
+    page.click("#vf-clear")
+    fill(page, VERIFY_FIELDS)
+    wait_for(page, "#vf-results")
+    expected = cli("verify", request_of(page, "#vf-results"))
+    shown = band(page, "#vf-answer")
+    assert shown["result"] == expected["result"]
+    assert_same(list(shown.items()), expected)
+    answer_in_first_viewport(page, "#vf-answer .verdict-word", "#vf-answer .verdict-worst",
+                             lower="#vf-clear")
+    assert too_wide(page) == []
+    SHOTS.mkdir(exist_ok=True)
+    page.screenshot(path=str(SHOTS / "verify-360.png"), full_page=False)
+    # A refused field keeps the verdict, marked out of date, and names the field in the band.
+    before = int(page.get_attribute("#vf-results", "data-seq"))
+    page.fill("#vf-mes-right-prism", "2 BQ")
+    page.wait_for_selector("#vf-answer[data-state=stale] .band-problem")
+    assert "Prism found" in page.text_content("#vf-answer .band-problem")
+    assert in_view(page, "#vf-answer .verdict-word")
+    page.fill("#vf-mes-right-prism", VERIFY_FIELDS["#vf-mes-right-prism"])
+    wait_for(page, "#vf-results", before)
+    assert page.get_attribute("#vf-answer", "data-state") == "current"
+    page.click("#tab-case")
+
+
 def test_readers_band_names_the_pair_and_fits_a_phone(phone, tmp_path):
     page = phone
     set_stock(page, STOCK)
@@ -75,8 +122,8 @@ def test_readers_band_names_the_pair_and_fits_a_phone(phone, tmp_path):
     assert shown["ranked.0.id"] == expected["ranked"][0]["id"]
     assert_same(list(shown.items()), expected)
     assert "Hand out" in page.text_content("#rd-band")
-    page.locator("#rd-band").scroll_into_view_if_needed()
-    assert in_view(page, "#rd-band .band-figure")
+    answer_in_first_viewport(page, "#rd-band .band-figure", "#rd-answer .band-hand-out",
+                             lower="#rd-add-row")
     assert too_wide(page) == []
     SHOTS.mkdir(exist_ok=True)
     page.screenshot(path=str(SHOTS / "readers-360.png"), full_page=False)
@@ -122,8 +169,7 @@ def test_deviation_band_gives_the_deviation_at_the_eye(phone):
         return [main, Math.max(...others)];
     }""")
     assert sizes[0] > sizes[1]
-    page.locator("#dv-band").scroll_into_view_if_needed()
-    assert in_view(page, "#dv-band .band-figure")
+    answer_in_first_viewport(page, "#dv-band .band-figure", "#dv-band", lower="#dv-clear")
     assert too_wide(page) == []
     SHOTS.mkdir(exist_ok=True)
     page.screenshot(path=str(SHOTS / "deviation-360.png"), full_page=False)

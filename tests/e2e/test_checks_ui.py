@@ -240,7 +240,7 @@ def test_verify_figures_match_cli(page):
             assert f"verdicts.{i}.reading" in keys
             assert f"verdicts.{i}.readings.total.value" in keys
     assert len(expected["cautions"]) and f"cautions.{len(expected['cautions']) - 1}" in keys
-    assert page.text_content("#vf-results .verdict-word") == expected["result"].upper()
+    assert page.text_content("#vf-answer .verdict-word") == expected["result"].upper()
 
     # Each lens on its own: the verdict says which reading it used, both are shown.
     before = seq(page, "#vf-results")
@@ -292,13 +292,13 @@ def test_verify_whole_pair_answer_band_matches_cli(page):
             "segment_height_difference", "segment_tilt"} <= criteria
     worst = expected["worst"]
     assert expected["verdicts"][worst]["criterion"] == "axis"  # 6 deg against 3 (ANSI)
-    assert page.text_content("#vf-results .verdict-word") == expected["result"].upper()
-    assert page.text_content("#vf-results .verdict-worst").startswith("Furthest over:")
+    assert page.text_content("#vf-answer .verdict-word") == expected["result"].upper()
+    assert page.text_content("#vf-answer .verdict-worst").startswith("Furthest over:")
     assert f"verdicts.{worst}.wearer.in_words" in keys
     size = page.eval_on_selector_all(
-        "#vf-results *", "els => Math.max(...els.filter(e => e.textContent.trim())"
+        "#vf-answer *, #vf-results *", "els => Math.max(...els.filter(e => e.textContent.trim())"
         ".map(e => parseFloat(getComputedStyle(e).fontSize)))")
-    word = page.eval_on_selector("#vf-results .verdict-word",
+    word = page.eval_on_selector("#vf-answer .verdict-word",
                                  "e => parseFloat(getComputedStyle(e).fontSize)")
     assert word == size, "the verdict is the largest text of the answer"
     page.select_option("#vf-lens-type", "single_vision")

@@ -2,7 +2,7 @@
 // patient's spectacles, taken back to the eye by the core (docs/case-format.md,
 // "## Deviations through spectacles").
 import {
-  Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, inOut, prismFigures,
+  Calculation, answerSlot, button, checkScreen, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, inOut, prismFigures,
   prismText, restoreFormDraft, resultsPanel, rxText, saveFormDraft, signed, standingCaution, upDown,
 } from "../checks-common.js";
 import * as store from "../store.js";
@@ -48,10 +48,13 @@ export function createDeviationScreen({ messenger, firstResult }) {
       ])),
     el("div", { class: "form-end" }, button("Clear this form", { class: "secondary", id: "dv-clear" })));
 
+  const hint = "Enter the prism that neutralised the deviation and the spectacle lenses to see the deviation at the eye.";
   const results = resultsPanel({ id: "dv-results", action: "deviation", title: "At the eye" });
+  const band = answerSlot({ id: "dv-answer", action: "deviation", label: "Deviation at the eye", prompt: hint });
   const root = el("main", { class: "screen", id: "screen-deviation", "aria-labelledby": "dv-title", hidden: "" },
+    el("div", { class: "screen-title" }, el("h2", { id: "dv-title", tabindex: "-1", text: "Deviation measured through glasses" })),
+    band,
     el("div", { class: "screen-intro" },
-      el("h2", { id: "dv-title", tabindex: "-1", text: "Deviation measured through glasses" }),
       el("p", { text: "A prism cover test done through the patient's spectacles, taken back to the deviation at the eye." }),
       standingCaution("An aid to clinical judgement, which belongs to licensed practitioners; verify by measurement.")),
     form, results);
@@ -67,8 +70,7 @@ export function createDeviationScreen({ messenger, firstResult }) {
   }
 
   const calc = new Calculation({
-    messenger, action: "deviation", results, build, render: renderDeviation,
-    hint: "Enter the prism that neutralised the deviation and the spectacle lenses to see the deviation at the eye.",
+    messenger, action: "deviation", results, band, build, render: renderDeviation, hint,
     aliases: () => ({ right: "right.rx", left: "left.rx", points: "points.right.in_mm" }),
     onShown: () => firstResult(),
   });
@@ -108,15 +110,15 @@ export function createDeviationScreen({ messenger, firstResult }) {
 
   function renderDeviation(body, result) {
     const dev = result.deviating;
-    const parts = [
-      // The answer first: the deviation at the eye, the largest text on the screen.
-      el("div", { class: "answer-band", id: "dv-band", "data-result": "info" },
+    // The answer first: the deviation at the eye, the largest text on the screen.
+    const answer = el("div", { class: "answer-band", id: "dv-band", "data-result": "info" },
         el("p", { class: "band-lead", text: "Deviation at the eye" }),
         el("p", { class: "band-figure" }, fig(result, "at_eye.in_words")),
         el("p", { class: "band-detail" }, "prism dioptres (Δ), ", fig(result, "at_eye.amount", (v) => v.toFixed(2) + " Δ"),
           " in all, before the ", fig(result, "deviating"), " eye"),
         el("p", { class: "band-detail" }, "measured ", fig(result, "measured.in_words"), " through the spectacles; the ",
-          fig(result, "fixating"), " eye fixated")),
+          fig(result, "fixating"), " eye fixated"));
+    const parts = [
       el("section", { class: "derived", "aria-labelledby": "dv-h-why" },
         el("h3", { id: "dv-h-why", text: "Why it differs" }),
         el("ul", { class: "explanation" }, ...result.explanation.map((_, i) => el("li", {}, fig(result, `explanation.${i}`))))),
@@ -158,25 +160,9 @@ export function createDeviationScreen({ messenger, firstResult }) {
             fig(result, "spectacle_prism.net.vertical_in_words")))),
     ];
     body.replaceChildren(...parts);
+    return answer;
   }
 
   restoreFormDraft("deviation", form);
-  document.addEventListener("pd:engine-restarted", () => {
-    if (started) calc.schedule(0);
-  });
-  let started = false;
-  return {
-    root,
-    resultsId: "dv-results",
-    show() {
-      root.hidden = false;
-      if (started) return;
-      started = true;
-      calc.run();
-    },
-    hide() {
-      root.hidden = true;
-    },
-    calc,
-  };
+  return checkScreen({ root, resultsId: "dv-results", calc });
 }

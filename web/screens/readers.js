@@ -3,7 +3,7 @@
 // on the shelf (docs/case-format.md, "## Ready-made readers"). Handing a pair
 // out and undoing it go through the core as well (readers_hand_out, readers_undo).
 import {
-  Calculation, button, cautionsBox, collect, download, el, eyeGrid, factRow, facts, field, fig, fixed, inputValue,
+  Calculation, answerSlot, button, checkScreen, cautionsBox, collect, download, el, eyeGrid, factRow, facts, field, fig, fixed, inputValue,
   loadSaved, millimetres, prismFigures, restoreFormDraft, resultsPanel, save, saveFormDraft, selectField,
   signed, standingCaution, withUnit,
 } from "../checks-common.js";
@@ -81,12 +81,15 @@ export function createReadersScreen({ messenger, firstResult }) {
       fileInput),
     stockMessage, importReport);
 
+  // What was handed out, with Undo: under the answer band, so it is in view where the button was.
   const handoutBar = el("div", { class: "handout-bar", id: "rd-handout", role: "status", "aria-live": "polite" });
   const results = resultsPanel({ id: "rd-results", action: "readers_rank", title: "Pairs for this patient" });
-  results.querySelector(".check-status").after(handoutBar);
+  const band = answerSlot({ id: "rd-answer", action: "readers_rank", label: "The pair to hand out",
+    prompt: "Enter the patient's near powers and PD: the pair to hand out appears here.", after: [handoutBar] });
   const root = el("main", { class: "screen", id: "screen-readers", "aria-labelledby": "rd-title", hidden: "" },
+    el("div", { class: "screen-title" }, el("h2", { id: "rd-title", tabindex: "-1", text: "Ready-made readers" })),
+    band,
     el("div", { class: "screen-intro" },
-      el("h2", { id: "rd-title", tabindex: "-1", text: "Ready-made readers" }),
       el("p", { text: "Which pair on the shelf suits this patient, and how much prism it puts before the eyes. " +
         "Works without a network once the app has been opened on this device." }),
       standingCaution("A screening aid: a full eye examination comes first; local rules and licensed practitioners decide.")),
@@ -383,7 +386,7 @@ export function createReadersScreen({ messenger, firstResult }) {
   }
 
   const calc = new Calculation({
-    messenger, action: "readers_rank", results, build,
+    messenger, action: "readers_rank", results, band, build,
     render: renderRanking,
     hint: "Enter the patient's near powers to rank the pairs on the shelf.",
     aliases: () => {
@@ -445,7 +448,6 @@ export function createReadersScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- drawing the answer
   function renderRanking(body, result) {
     const parts = [];
-    parts.push(answerBand(result));
     if (result.custom_needed) {
       parts.push(el("div", { class: "verdict-banner", "data-result": "fail" },
         el("p", { class: "verdict-word", text: "Custom spectacles needed" }),
@@ -483,6 +485,7 @@ export function createReadersScreen({ messenger, firstResult }) {
           el("details", { class: "breakdown" }, el("summary", { text: "Prism figures" }), pairFigures(result, `pairs.${i}`)))))));
     }
     body.replaceChildren(...parts);
+    return answerBand(result);
   }
 
   // The answer first: the pair to hand out, or (none passing) the closest pair
@@ -515,6 +518,12 @@ export function createReadersScreen({ messenger, firstResult }) {
         " · on hand ", fig(result, p + ".count")),
       el("p", { class: "band-detail" }, result.ranked.length ? "Prism: " : "It would give ",
         fig(result, p + ".net.horizontal_in_words"), "; ", fig(result, p + ".net.vertical_in_words")));
+    if (result.ranked.length) {
+      const id = result.ranked[0].id;
+      const give = button("Hand out one", { class: "primary band-hand-out", "aria-label": `Hand out one pair of ${id}` });
+      give.addEventListener("click", () => handOut(id));
+      band.append(give);
+    }
     return band;
   }
 
@@ -567,23 +576,5 @@ export function createReadersScreen({ messenger, firstResult }) {
   if (skipped) {
     stockMessage.textContent = `${skipped} stored row${skipped === 1 ? " was" : "s were"} unreadable and left out of the list.`;
   }
-  document.addEventListener("pd:engine-restarted", () => {
-    if (started) calc.schedule(0);
-  });
-  let started = false;
-  return {
-    root,
-    resultsId: "rd-results",
-    show() {
-      root.hidden = false;
-      if (started) return;
-      started = true;
-      loadLimits();
-      calc.run();
-    },
-    hide() {
-      root.hidden = true;
-    },
-    calc,
-  };
+  return checkScreen({ root, resultsId: "rd-results", calc, start: loadLimits });
 }

@@ -2,11 +2,11 @@
 // tolerances: prism, powers, cylinder, axis, add and segment / fitting-cross positions. Builds the verification document (docs/case-format.md,
 // "## Verification") from the form and draws the core's verdicts.
 import {
-  Calculation, button, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, fixed, inOut,
+  Calculation, answerSlot, button, checkScreen, cautionsBox, collect, el, eyeGrid, factRow, facts, field, fig, fixed, inOut,
   loadSaved, prismFigures, prismText, restoreFormDraft, resultsPanel, rxText, saveFormDraft, selectField,
   signed, standingCaution, upDown, withUnit, words,
-} from "./checks-common.js";
-import * as store from "./store.js";
+} from "../checks-common.js";
+import * as store from "../store.js";
 
 const LENS_TYPES = [["single_vision", "Single vision"], ["multifocal", "Multifocal (segment)"], ["progressive", "Progressive"]];
 const MOUNTINGS = [["mounted", "Mounted pair"], ["unmounted", "Unmounted lenses (each judged alone)"]];
@@ -85,10 +85,13 @@ export function createVerifyScreen({ messenger, firstResult }) {
           path: "measured.centre_distance_mm" }))),
     el("div", { class: "form-end" }, button("Clear this form", { class: "secondary", id: "vf-clear" })));
 
+  const hint = "Enter the order and at least one measurement (the prism found at a reference point, or where the centres are) to see the verdict.";
   const results = resultsPanel({ id: "vf-results", action: "verify", title: "Verdict" });
+  const band = answerSlot({ id: "vf-answer", action: "verify", label: "Verdict", prompt: hint });
   const root = el("main", { class: "screen", id: "screen-verify", "aria-labelledby": "vf-title", hidden: "" },
+    el("div", { class: "screen-title" }, el("h2", { id: "vf-title", tabindex: "-1", text: "Check a finished pair" })),
+    band,
     el("div", { class: "screen-intro" },
-      el("h2", { id: "vf-title", tabindex: "-1", text: "Check a finished pair" }),
       el("p", { text: "What was ordered, what you measured, and whether the prism is within the chosen standard's tolerances." }),
       standingCaution()),
     form, results);
@@ -147,9 +150,7 @@ export function createVerifyScreen({ messenger, firstResult }) {
   }
 
   const calc = new Calculation({
-    messenger, action: "verify", results, build,
-    render: renderVerdicts,
-    hint: "Enter the order and at least one measurement (the prism found at a reference point, or where the centres are) to see the verdict.",
+    messenger, action: "verify", results, band, build, render: renderVerdicts, hint,
     aliases: () => ({ "ordered.right": "ordered.right.rx", "ordered.left": "ordered.left.rx",
       "measured": "measured.right.prism", "measured.right": "measured.right.prism", "measured.left": "measured.left.prism" }),
     onShown: () => firstResult(),
@@ -282,7 +283,7 @@ export function createVerifyScreen({ messenger, firstResult }) {
       el("p", { class: "verdict-against" }, "against ", fig(result, "standard.short"), " · ",
         fig(result, "lens_type", words), " · ", fig(result, "mounting"),
         result.mounting === "mounted" ? el("span", {}, " · horizontal reading: ", fig(result, "horizontal_reading", words)) : null));
-    const parts = [head];
+    const parts = [];
     if (result.unverified) {
       parts.push(el("div", { class: "unverified-flag", role: "note" },
         el("strong", { text: "UNVERIFIED: " }),
@@ -307,6 +308,7 @@ export function createVerifyScreen({ messenger, firstResult }) {
         el("ul", { class: "assumptions" }, ...result.assumptions.map((_, i) => el("li", {}, fig(result, `assumptions.${i}`))))));
     }
     body.replaceChildren(...parts);
+    return head;
   }
 
   function worstLine(result) {
@@ -427,17 +429,6 @@ export function createVerifyScreen({ messenger, firstResult }) {
   // ---------------------------------------------------------------- start
   restoreFormDraft("verify", form);
   applyMounting();
-  let started = false;
-  return {
-    root,
-    resultsId: "vf-results",
-    shown() {
-      if (started) return;
-      started = true;
-      loadStandards();
-      calc.run();
-    },
-    calc,
-  };
+  return checkScreen({ root, resultsId: "vf-results", calc, start: loadStandards });
 }
 
