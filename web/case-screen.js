@@ -4,7 +4,7 @@
 // Import, Export), notices and offline use, and calls loadCase() to show a case.
 import { pointsProblem } from "./documents.js";
 import { renderBand } from "./answer-band.js";
-import { CaseForm, messageInWords, pathInWords, toValue } from "./form.js";
+import { CaseForm, pathInWords, refusalMessage, toValue } from "./form.js";
 import { el, renderCautions, renderPrintSummary, renderResult, renderTransposed } from "./results.js";
 import * as store from "./store.js";
 import { setUpZone } from "./zone.js";
@@ -278,7 +278,7 @@ export function setUpCaseScreen(host) {
       const field = error.field || "";
       const input = inputFor(field, inputs);
       const words = field ? pathInWords(field) : "Case";
-      const message = messageInWords(error.message);
+      const message = refusalMessage(field, error.message);
       const untouchedEmpty = input && !touched.has(input) && input.value.trim() === "" && input.type !== "checkbox";
       if (input && !untouchedEmpty && !empty) mark(input, words, message);
       shown.push({ words, message });

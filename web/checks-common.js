@@ -3,7 +3,7 @@
 // one calculation at a time per screen, and figures with data-key/data-value.
 // Nothing here computes optics: every figure shown comes from the core's answer.
 import { el } from "./results.js";
-import { toValue } from "./form.js";
+import { pathInWords, refusalMessage, toValue } from "./form.js";
 
 export { el };
 
@@ -374,15 +374,17 @@ export class Calculation {
       this.bandProblem(null, error.message);
       return;
     }
-    const input = inputFor(error.field || "", inputs, this.aliases());
-    const name = labelOf(input) || error.field || "Input";
-    if (input) this.mark(input, name, error.message);
+    const field = error.field || "";
+    const input = inputFor(field, inputs, this.aliases());
+    const name = labelOf(input) || (field ? pathInWords(field) : "Input");
+    const message = refusalMessage(field, error.message);
+    if (input) this.mark(input, name, message);
     this.results.dataset.status = this.lastGood ? "stale" : "error";
     const lead = this.lastGood ? "Out of date: the figures below are for the last valid input. " : "";
     this.status.replaceChildren(el("span", { class: "problem" }, lead,
-      el("strong", { text: name + ": " }), error.message));
+      el("strong", { text: name + ": " }), message));
     if (!this.lastGood) this.body.replaceChildren(el("p", { class: "empty", text: this.hint }));
-    this.bandProblem(name, error.message);
+    this.bandProblem(name, message);
   }
 
   // The band keeps the last answer, marked out of date, under one line naming

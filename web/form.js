@@ -285,7 +285,17 @@ export function pathInWords(path) {
 
 // A refusal's message in words: internal keys such as "right.sphere" or
 // "diameter_mm" become the words the form uses ("Right sphere", "diameter").
-export function messageInWords(message) {
+// The core's refusal as shown after its field's name: without the field's key at
+// its start (the screen names the field itself, in words), other keys in words.
+export function refusalMessage(field, message) {
+  let text = String(message);
+  if (field && text.startsWith(field) && /^(:\s|\s)/.test(text.slice(field.length))) {
+    text = text.slice(field.length).replace(/^:?\s+/, "");
+  }
+  return messageInWords(text);
+}
+
+function messageInWords(message) {
   return String(message)
     .replace(/\b[a-z][a-z_]*(?:\.(?:[a-z][a-z0-9_]*|\d+))+\b/g,
       (path) => (/^(e\.g|i\.e|etc)$/.test(path) ? path : pathInWords(path)))

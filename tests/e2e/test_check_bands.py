@@ -102,7 +102,11 @@ def test_pair_check_verdict_is_in_a_phones_first_viewport(phone):
     before = int(page.get_attribute("#vf-results", "data-seq"))
     page.fill("#vf-mes-right-prism", "2 BQ")
     page.wait_for_selector("#vf-answer[data-state=stale] .band-problem")
-    assert "Prism found" in page.text_content("#vf-answer .band-problem")
+    problem = page.text_content("#vf-answer .band-problem")
+    assert problem.startswith("Right (R), Prism found: could not read"), problem
+    assert "measured.right.prism" not in problem
+    note = page.text_content("#vf-mes-right-prism-error")
+    assert note.startswith("Right (R), Prism found: could not read"), note
     assert in_view(page, "#vf-answer .verdict-word")
     page.fill("#vf-mes-right-prism", VERIFY_FIELDS["#vf-mes-right-prism"])
     wait_for(page, "#vf-results", before)

@@ -114,11 +114,20 @@ def test_written_form_typed(tpage, field, text):
         tail = message.split(" ", 1)[1]                  # the sentence after the field's path
         assert tail.split(";")[0].split("(")[0].strip() in note
         assert not INTERNAL_KEY.search(note), note
+        assert_named_once(note)
         assert not INTERNAL_KEY.search(page.text_content("#result-status"))
         # A field that no longer reads has no transposed form beside it.
         assert page.text_content(f"#{eye}-transposed") == ""
     retype(page, field, "")
     settled(page)
+
+
+def assert_named_once(note: str) -> None:
+    """A field's note names the field once ("Left sphere: could not read ..."),
+    never "Left sphere: Left sphere ..." nor "Left sphere: left.sphere ..."."""
+    name, _, sentence = note.partition(": ")
+    assert name and sentence, note
+    assert not sentence.lower().startswith(name.lower()), note
 
 
 def test_several_bad_fields_marked_at_once(tpage):
@@ -138,6 +147,7 @@ def test_several_bad_fields_marked_at_once(tpage):
     assert "Right axis" in axis and "Left monocular PD" in pd and axis != pd
     for text in (axis, pd):
         assert not INTERNAL_KEY.search(text), text
+        assert_named_once(text)
     retype(page, "#right-axis", "")
     retype(page, "#left-pd", "31")
     settled(page)
