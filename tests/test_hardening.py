@@ -23,7 +23,7 @@ import pytest
 from pycore.checks.reader_stock import parse_stock_csv, read_stock, stock_to_csv
 from pycore.documents import batch
 from pycore.documents.cases import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json
-from pycore.documents.kinds import read_document
+from pycore.documents.kinds import NAMES, read_document
 from pycore.errors import ECHO, CaseError
 from pycore.interfaces import bridge
 from pycore.interfaces.cli import main
@@ -157,6 +157,30 @@ def test_read_document_batch_and_refusals() -> None:
     with pytest.raises(CaseError) as caught:
         read_document('{"right": 1, "right": 2}')
     assert caught.value.field == "right"
+
+
+KIND_OF = {"case": EYES_AND_POINT, "readers": READERS, "deviation": DEVIATION,
+           "verification": VERIFICATION}
+COMMAND_TAKES = {"evaluate": ("case",), "apply-remedy": ("case",), "readers": ("readers",),
+                 "deviation": ("deviation",), "verify": ("verification", "case")}
+
+
+@pytest.mark.parametrize("command", sorted(COMMAND_TAKES))
+def test_each_command_refuses_a_document_of_another_kind_by_name(command: str, capsys: Any,
+                                                                 monkeypatch: Any) -> None:
+    """A readers request given to evaluate (and so on) is refused by what it is, in the
+    words read_document uses, not by the first field the command misses. A case has no
+    key of its own (it is what a document without one is read as), so a case given to
+    another command is refused by its fields, still in one sentence."""
+    for kind, document in KIND_OF.items():
+        if kind in COMMAND_TAKES[command]:
+            continue
+        args = [command, "slab_off", "-"] if command == "apply-remedy" else [command, "-"]
+        err = one_sentence(*run_main(capsys, monkeypatch, *args,
+                                     stdin=json.dumps(document).encode()))
+        wanted = COMMAND_TAKES[command][0]
+        by_kind = f"The file is {NAMES[kind]}, not {NAMES[wanted]}."
+        assert (err.strip() == by_kind) == (kind != "case"), (command, err)
 
 
 def test_read_document_and_cli_refuse_a_duplicate_key_alike(capsys: Any,

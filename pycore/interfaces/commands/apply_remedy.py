@@ -8,6 +8,7 @@ import argparse
 import json
 
 from pycore.documents.cases import read_case_text
+from pycore.documents.kinds import refuse_other_kind
 from pycore.documents.summary import text_summary
 from pycore.evaluate import evaluate
 from pycore.interfaces.commands.common import read_input, write_output
@@ -42,6 +43,7 @@ def run(args: argparse.Namespace) -> int:
     from pycore.documents.cases import load_json
 
     document = load_json(read_input(args.file))
+    refuse_other_kind(document, ("case",))
     _entry, finished = finished_case(document, args.remedy)
     if args.evaluate or args.text:
         result = evaluate(read_case_text(json.dumps(finished)))

@@ -8,6 +8,7 @@ import json
 from pycore.checks.deviation import read_deviation, through_spectacles
 from pycore.checks.readers_text import deviation_text
 from pycore.documents.cases import load_json
+from pycore.documents.kinds import refuse_other_kind
 from pycore.interfaces.commands.common import read_input, write_output
 
 HELP = "a deviation measured with prisms through spectacles, worked back to the eye"
@@ -47,7 +48,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     what = "the deviation file"
-    result = through_spectacles(read_deviation(load_json(read_input(args.file, what), what)))
+    document = load_json(read_input(args.file, what), what)
+    refuse_other_kind(document, ("deviation",))
+    result = through_spectacles(read_deviation(document))
     write_output(deviation_text(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0
 

@@ -5,7 +5,9 @@ from __future__ import annotations
 import argparse
 import json
 
-from pycore.documents.cases import read_case_text
+from pycore.documents.cases import read_case
+from pycore.documents.json_input import load_json
+from pycore.documents.kinds import refuse_other_kind
 from pycore.documents.summary import text_summary
 from pycore.evaluate import evaluate
 from pycore.interfaces.commands.common import read_input, write_output
@@ -31,7 +33,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    case = read_case_text(read_input(args.file))
+    document = load_json(read_input(args.file))
+    refuse_other_kind(document, ("case",))
+    case = read_case(document)
     result = evaluate(case)
     write_output(text_summary(result) if args.text else json.dumps(result, indent=2) + "\n")
     return 0

@@ -10,6 +10,7 @@ from pycore.checks.reader_stock import StockPair, read_stock, stock_from_csv
 from pycore.checks.readers import readers_request
 from pycore.checks.readers_text import readers_text
 from pycore.documents.cases import load_json
+from pycore.documents.kinds import refuse_other_kind
 from pycore.errors import CaseError, shown
 from pycore.interfaces.commands.common import read_input, write_output
 
@@ -63,6 +64,7 @@ def run(args: argparse.Namespace) -> int:
         raise CaseError("FILE", "FILE is missing: give the wearer file, or - for standard "
                                 "input.")
     document = load_json(read_input(args.file, "the readers file"), "the readers file")
+    refuse_other_kind(document, ("readers",))
     stock = None
     if args.stock is not None:
         stock = _stock(args.stock)

@@ -11,6 +11,7 @@ from pycore.checks.verification_input import read_verification
 from pycore.checks.verification_section import evaluate_section
 from pycore.checks.verification_text import verification_text
 from pycore.documents.cases import load_json, read_case
+from pycore.documents.kinds import refuse_other_kind
 from pycore.errors import CaseError
 from pycore.interfaces.commands.common import read_input, write_output
 
@@ -72,6 +73,7 @@ def run(args: argparse.Namespace) -> int:
                                 "input.")
     document = load_json(read_input(args.file, "the verification file"),
                          "the verification file")
+    refuse_other_kind(document, ("verification", "case"))
     if isinstance(document, dict) and "ordered" not in document and "right" in document:
         result = _from_case(document, args)
     else:
