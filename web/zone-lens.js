@@ -50,8 +50,8 @@ function drawLens(result, doc, eye, prefix) {
   root.append(inside);
   const across = (y, cls, dash, attrs) => inside.append(svg("line", { x1: left, x2: left + a + 2 * PAD, y1: Y(y), y2: Y(y),
     class: cls, stroke: "#000", "stroke-width": 0.5, "stroke-dasharray": dash, ...attrs }));
-  const label = (x, y, text, anchor = "start") => root.append(svg("text", { x: x.toFixed(2), y: y.toFixed(2),
-    "font-size": 2.6, "text-anchor": anchor, class: "lens-label", text }));
+  const labels = []; // placed at the end, clear of one another
+  const label = (x, y, text, anchor = "start") => labels.push({ x, y, text, anchor });
   const edge = Math.max(X(cx - a / 2), X(cx + a / 2)) - 1;
 
   if (design.kind === "bifocal" && typeof design.top_mm === "number") {
@@ -110,7 +110,35 @@ function drawLens(result, doc, eye, prefix) {
       fill: "#000", ...markAttrs(result, `reading_zone.geometry.reading_point.${eye}.up_mm`) }));
     label(X(reading.in_mm) + 2.2 * sign, Y(reading.up_mm) + 3.4, "reading", sign > 0 ? "start" : "end");
   }
+  for (const { x, y, text, anchor } of clearOfOneAnother(labels)) {
+    root.append(svg("text", { x: x.toFixed(2), y: y.toFixed(2), "font-size": LABEL_SIZE, "text-anchor": anchor,
+      class: "lens-label", text }));
+  }
   return root;
+}
+
+const LABEL_SIZE = 2.6; // mm on the drawing
+
+// Labels in the order given, each moved down (else up) by whole lines until it
+// overlaps none placed before it, so that marks close together stay readable.
+function clearOfOneAnother(labels) {
+  const line = LABEL_SIZE * 1.35;
+  // Generous boxes (a font's glyphs are about 0.6 em wide, ascent plus descent 1.2 em).
+  const box = ({ x, y, text, anchor }) => {
+    const width = text.length * LABEL_SIZE * 0.62;
+    const x1 = anchor === "end" ? x - width : anchor === "middle" ? x - width / 2 : x;
+    return { x1, x2: x1 + width, y1: y - LABEL_SIZE, y2: y + LABEL_SIZE * 0.3 };
+  };
+  const hits = (a, b) => a.x1 < b.x2 && b.x1 < a.x2 && a.y1 < b.y2 && b.y1 < a.y2;
+  const placed = [];
+  return labels.map((wanted) => {
+    const steps = [0, 1, -1, 2, -2, 3, -3, 4];
+    const free = steps.map((k) => ({ ...wanted, y: wanted.y + k * line }))
+      .find((candidate) => !placed.some((other) => hits(box(candidate), other)));
+    const chosen = free || wanted;
+    placed.push(box(chosen));
+    return chosen;
+  });
 }
 
 export function lensDrawings(result, doc, prefix = "lens") {

@@ -12,6 +12,7 @@ go to test-results/screens/.
 
 from __future__ import annotations
 
+import json
 import math
 import re
 from collections.abc import Iterator
@@ -19,7 +20,7 @@ from typing import Any
 
 import pytest
 from conftest import Watch
-from e2e_support import ROOT, cli_evaluate, lookup, serious_violations, wait_result
+from e2e_support import ROOT, case_fragment, cli_evaluate, lookup, serious_violations, wait_result
 
 SHOTS = ROOT / "test-results" / "screens"
 SIZES = [(360, 740), (768, 1024), (1024, 768)]
@@ -32,6 +33,23 @@ CASE = {
              "segment": {"shape": "flat_top", "width_mm": 28, "top_mm": -4}},
     "fitting": {"right": {"mono_pd_mm": 32}, "left": {"mono_pd_mm": 31}},
 }
+
+
+def overlapping_labels(page: Any) -> list[list[str]]:
+    """Pairs of labels in one lens drawing whose boxes overlap (none may)."""
+    return page.evaluate("""() => {
+        const out = [];
+        for (const drawing of document.querySelectorAll('svg.lens-svg')) {
+            if (!drawing.getBoundingClientRect().width) continue;
+            const labels = [...drawing.querySelectorAll('text.lens-label')]
+                .map((t) => [t.textContent, t.getBBox()]);
+            labels.forEach(([a, p], i) => labels.slice(i + 1).forEach(([b, q]) => {
+                if (p.x < q.x + q.width && q.x < p.x + p.width
+                    && p.y < q.y + q.height && q.y < p.y + p.height) out.push([a, b]);
+            }));
+        }
+        return out;
+    }""")
 
 
 def type_into(page: Any, selector: str, text: str) -> None:
@@ -181,6 +199,7 @@ def test_typed_case_answers_in_view(sized, site, expected):
     assert page.eval_on_selector_all("#result-body > details.sec[open]", "els => els.length") == 0
     page.evaluate("() => document.querySelectorAll('details').forEach(d => d.open = true)")
     assert too_wide(page) == []
+    assert overlapping_labels(page) == []
     assert page.evaluate("() => document.documentElement.scrollWidth - innerWidth") <= 0
     assert serious_violations(page) == []
     page.screenshot(path=str(SHOTS / f"band-{width}x{height}-open.png"), full_page=True)
@@ -201,3 +220,18 @@ def test_typed_case_answers_in_view(sized, site, expected):
         pages = len(re.findall(rb"/Type\s*/Page[^s]", pdf))
         assert 1 <= pages <= 2, f"{pages} pages"
         assert len(pdf) < 400_000                         # vector, not a raster of the screen
+
+
+@pytest.mark.parametrize("sized", [(1024, 768)], indirect=True, ids=["1024x768"])
+def test_lens_labels_stay_clear_of_one_another(sized, site):
+    """On a progressive whose reading point lies by the near circle and whose threshold
+    line passes the fitting cross (the demo orchard-keeper case), every label of the
+    lens drawings stays readable: no two overlap."""
+    page = sized
+    doc = json.loads((ROOT / "examples" / "orchard-keeper-progressive.json").read_text())
+    page.goto(site.url + case_fragment(doc))
+    wait_result(page)
+    page.click("#sec-map > summary")
+    page.wait_for_selector("#sec-map svg.lens-svg")
+    assert page.locator("svg.lens-svg text.lens-label").count() >= 10
+    assert overlapping_labels(page) == []
