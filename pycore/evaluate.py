@@ -152,6 +152,8 @@ def describe_lens(lens: Lens, eye: Eye) -> dict[str, Any]:
             info["decentration_for_prism"] = {"impossible": exc.message}
     if lens.segment is not None:
         info["image_jump"] = lens.segment.image_jump(lens.add)
+    if lens.centre_mm != (0.0, 0.0):
+        info["optical_centre_mm"] = {"in_mm": lens.centre_mm[0], "up_mm": lens.centre_mm[1]}
     return info
 
 
@@ -203,8 +205,10 @@ def describe_frame(case: Case, frame: Frame | None) -> dict[str, Any] | None:
             except CaseError:
                 pass
         # Optical centre relative to the box centre: the pupil is `inward` mm nasal of
-        # it and `up` mm above; the prism moves the centre further by the prism shift.
-        total_in, total_up = inward + prism_in, up + prism_up
+        # it and `up` mm above; the prism moves the centre further by the prism shift,
+        # and a centre moved on purpose (lowered centres) by that move.
+        total_in = inward + prism_in + lens.centre_mm[0]
+        total_up = up + prism_up + lens.centre_mm[1]
         entry: dict[str, Any] = {
             "decentration_in_mm": inward,
             "optical_centre_from_box_centre": {"in_mm": total_in, "up_mm": total_up},

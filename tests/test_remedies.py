@@ -217,10 +217,55 @@ def test_lowering_by_default_balances_near_and_distance() -> None:
     assert remedy["details"]["lowered_mm"] == pytest.approx(5.0)
     assert remedy["near"]["vertical_base_up_right"] == pytest.approx(-2.0)
     assert remedy["distance"]["vertical_base_up_right"] == pytest.approx(2.0)
-    prism = remedy["applied_case"]["right"]["prism"]
+    applied = remedy["applied_case"]
+    assert "prism" not in applied["right"] and "prism" not in applied["left"]
+    assert applied["right"]["optical_centre_mm"] == {"in_mm": 0.0, "up_mm": -5.0}
     # -6.00 with its centre 5 mm below the pupil: 3.0 base up (Prentice's rule; a minus
-    # lens has its base away from the centre).
-    assert prism["base_up"] == pytest.approx(3.0)
+    # lens has its base away from the centre), induced, not prescribed.
+    right = evaluate(read_case(applied), ("points",))["points"][0]["right"]
+    assert right["parts"]["induced"]["base_up"] == pytest.approx(3.0)
+    assert right["parts"]["prescribed"]["amount"] == 0.0
+
+
+def test_lowered_centres_applied_keep_the_prescribed_prism_and_show_what_they_do() -> None:
+    """Lowered centres on a wearer with prescribed vertical prism: once applied, the
+    finished case carries the same prescribed prism, and evaluated again its induced
+    imbalance at the reading point and at distance is what the remedy promised. Check
+    values by Prentice's rule with numpy (P = -F (r - c), r and c in cm): lowering both
+    centres by h changes the net vertical prism by -(F_yy,R - F_yy,L) h / 10 at every
+    point (oblique cylinders: the yy entry of each power matrix)."""
+    import numpy as np
+
+    document = {"right": {"rx": "-5.50 / -1.00 x 30", "prism": {"base_in": 0, "base_up": 1.5}},
+                "left": {"rx": "-1.25 DS", "prism": {"base_in": 0, "base_up": -1.5}},
+                "fitting": FITTING}
+    before = evaluate(read_case(document))
+    remedy = next(o for o in before["remedies"]["options"] if o["id"] == "lower_centres")
+    drop = remedy["details"]["lowered_mm"]
+    applied = remedy["applied_case"]
+    assert applied["right"]["prism"] == document["right"]["prism"]
+    assert applied["left"]["prism"] == document["left"]["prism"]
+    after = evaluate(read_case(applied))
+    zone_before, zone_after = before["reading_zone"], after["reading_zone"]
+
+    def yy(rx_eye: str) -> float:
+        power = before["eyes"][rx_eye]["power_matrix"]
+        return float(np.array([[power["xx"], power["xy"]], [power["xy"], power["yy"]]])[1, 1])
+
+    change = -(yy("right") - yy("left")) * drop / 10.0
+    assert abs(change) > 0.5
+    for where in ("at_reading_point", "at_distance"):
+        induced_before = zone_before[where]["induced_vertical_base_up_right"]
+        induced_after = zone_after[where]["induced_vertical_base_up_right"]
+        assert induced_after == pytest.approx(induced_before + change, abs=1e-9), where
+    assert zone_after["at_reading_point"]["induced_vertical_base_up_right"] == pytest.approx(
+        remedy["near"]["induced_vertical_base_up_right"], abs=1e-9)
+    assert zone_after["at_distance"]["induced_vertical_base_up_right"] == pytest.approx(
+        remedy["distance"]["induced_vertical_base_up_right"], abs=1e-9)
+    # The prescribed prism is still the wearer's: the totals differ from the induced
+    # parts by exactly its net (1.5 BU R, 1.5 BD L: +3.0 up(R) - up(L)).
+    assert (zone_after["at_distance"]["vertical_base_up_right"]
+            - zone_after["at_distance"]["induced_vertical_base_up_right"]) == pytest.approx(3.0)
 
 
 def test_near_only_spectacles_centred_for_near_need_no_split_prism() -> None:

@@ -292,6 +292,14 @@ export function renderPrintSummary(node, doc, result, chosen = null) {
     }
     parts.push(`; PD ${given(fit.mono_pd_mm)} mm`, fit.height_mm !== undefined ? `, fitting height ${given(fit.height_mm)} mm` : "");
     if (lens.slab_off) parts.push(`; slab-off ${given(lens.slab_off.base_up)} Δ, line ${given(lens.slab_off.line_mm)} mm`);
+    const moved = result.eyes[eye].optical_centre_mm;
+    if (moved) {
+      parts.push("; optical centre ", fig(result, p + ".optical_centre_mm.up_mm",
+        (v) => `${fixed(1)(Math.abs(v))} mm ${v < 0 ? "below" : "above"}`),
+      moved.in_mm ? el("span", {}, ", ", fig(result, p + ".optical_centre_mm.in_mm",
+        (v) => `${fixed(1)(Math.abs(v))} mm ${v < 0 ? "out from" : "in from"}`)) : null,
+      " the fitting point");
+    }
     line(EYE_WORDS[eye], ...parts);
   }
   if (doc.frame) {

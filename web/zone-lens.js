@@ -96,11 +96,16 @@ function drawLens(result, doc, eye, prefix) {
   // Reference point (cross) and optical centre (ring with a dot).
   root.append(svg("path", { class: "lens-drp", d: "M-2.5,0H2.5M0,-2.5V2.5", stroke: "#000", "stroke-width": 0.6,
     ...markAttrs(result, `reading_zone.geometry.distance_point.${eye}.up_mm`) }));
+  // The optical centre: moved by the decentration that gives the prescribed prism and
+  // by any move made on purpose (lowered centres: eyes.<eye>.optical_centre_mm).
   const dec = get(result, `eyes.${eye}.decentration_for_prism`);
-  const ocIn = dec && typeof dec.in_mm === "number" ? dec.in_mm : 0;
-  const ocUp = dec && typeof dec.up_mm === "number" ? dec.up_mm : 0;
-  root.append(svg("g", { class: "lens-oc", ...(dec && typeof dec.up_mm === "number"
-    ? markAttrs(result, `eyes.${eye}.decentration_for_prism.up_mm`) : oc ? markAttrs(result, `frame.${eye}.optical_centre_from_box_centre.up_mm`) : {}) },
+  const moved = get(result, `eyes.${eye}.optical_centre_mm`);
+  const ocIn = (dec && typeof dec.in_mm === "number" ? dec.in_mm : 0) + (moved ? moved.in_mm : 0);
+  const ocUp = (dec && typeof dec.up_mm === "number" ? dec.up_mm : 0) + (moved ? moved.up_mm : 0);
+  const ocKey = moved ? `eyes.${eye}.optical_centre_mm.up_mm`
+    : dec && typeof dec.up_mm === "number" ? `eyes.${eye}.decentration_for_prism.up_mm`
+      : oc ? `frame.${eye}.optical_centre_from_box_centre.up_mm` : null;
+  root.append(svg("g", { class: "lens-oc", ...(ocKey ? markAttrs(result, ocKey) : {}) },
   svg("circle", { cx: X(ocIn), cy: Y(ocUp), r: 1.6, fill: "none", stroke: "#000", "stroke-width": 0.5 }),
   svg("circle", { cx: X(ocIn), cy: Y(ocUp), r: 0.45, fill: "#000" })));
   label(3, -1.2, design.kind === "progressive" ? "PRP" : "reference point");

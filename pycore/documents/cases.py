@@ -124,7 +124,7 @@ def read_case_text(text: str | bytes) -> Case:
 
 
 _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",
-              "progressive")
+              "progressive", "optical_centre_mm")
 
 
 def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> Lens:
@@ -156,7 +156,11 @@ def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> 
     if progressive is not None and add == 0:
         raise CaseError(f"{path}.add", f"{path}.add is needed with a progressive: give the "
                                        "reading addition in dioptres (0.25 to 6).")
-    return _within(lambda: Lens(rx, prism, add, segment, slab, progressive), path)
+    centre = (0.0, 0.0)
+    if "optical_centre_mm" in obj:
+        moved = read_lens_point(obj["optical_centre_mm"], f"{path}.optical_centre_mm")
+        centre = (moved.in_mm, moved.up_mm)
+    return _within(lambda: Lens(rx, prism, add, segment, slab, progressive, centre), path)
 
 
 def _prescription(obj: Mapping[str, Any], path: str, eye: Eye) -> WrittenPrescription:

@@ -23,6 +23,10 @@ from pycore.validation import in_range, positive
 
 ADD_LIMIT_D = 6.0
 SLAB_OFF_LIMIT = 10.0
+CENTRE_MOVE_IN_MM = (-10.0, 10.0)
+CENTRE_MOVE_UP_MM = (-15.0, 10.0)
+"""How far a distance optical centre may be moved from its reference point (mm): the
+lowered-centres remedy lowers by up to 10 mm (raises by up to 10); a little room beyond."""
 
 
 @dataclass(frozen=True)
@@ -103,7 +107,10 @@ class Lens:
     """A spectacle lens before ``eye``: distance Rx, prescribed prism, optional add etc.
 
     The add is carried by a bifocal ``segment`` or by a ``progressive`` design
-    (pycore.spectacles.progressive), never both.
+    (pycore.spectacles.progressive), never both. ``centre_mm`` = (in_mm, up_mm): where
+    the distance optical centre sits when it is deliberately moved from the distance
+    reference point (lowered centres), in mm, in toward the nose and up; the prism that
+    gives is induced, not prescribed. Default: at the reference point.
     """
 
     prescription: Prescription
@@ -112,6 +119,7 @@ class Lens:
     segment: Segment | None = None
     slab_off: SlabOff | None = None
     progressive: Progressive | None = None
+    centre_mm: tuple[float, float] = (0.0, 0.0)
 
     def __post_init__(self) -> None:
         in_range(self.prism.base_in, "prism.base_in", -PRISM_LIMIT, PRISM_LIMIT,
@@ -123,6 +131,13 @@ class Lens:
         if self.segment is not None and self.progressive is not None:
             raise CaseError("progressive", "progressive cannot be given with a segment: a "
                                            "lens is either a bifocal or a progressive.")
+        if self.centre_mm != (0.0, 0.0):
+            in_range(self.centre_mm[0], "optical_centre_mm.in_mm", *CENTRE_MOVE_IN_MM, "mm")
+            in_range(self.centre_mm[1], "optical_centre_mm.up_mm", *CENTRE_MOVE_UP_MM, "mm")
+            if self.progressive is not None:
+                raise CaseError("optical_centre_mm", "optical_centre_mm cannot be given with a "
+                                                     "progressive: its distance centre is tied "
+                                                     "to its prism reference point.")
 
     @property
     def power(self) -> PowerMatrix:
@@ -130,7 +145,7 @@ class Lens:
 
     def prism_at(self, point: LensPoint, eye: Eye) -> PrismAtPoint:
         """The prism before ``eye`` when it looks through ``point`` of this lens."""
-        induced = induced_prism(self.power, point, eye)
+        induced = induced_prism(self.power, point, eye, centre_mm=self.centre_mm)
         from_add = Prism()
         zone = "distance"
         if self.segment is not None and self.add and self.segment.covers(point):

@@ -23,6 +23,7 @@ class LensSampler:
             lens.progressive is not None and lens.add) else 0.0
         self.prescribed = lens.prism
         self._thinning = thinning
+        self._centre_in, self._centre_up = lens.centre_mm
 
     def at(self, in_mm: float, up_mm: float) -> tuple[float, float, str]:
         """(base_in, base_up, zone) where the line of sight crosses the lens at the point."""
@@ -32,7 +33,8 @@ class LensSampler:
     def unprescribed_at(self, in_mm: float, up_mm: float) -> tuple[float, float, str]:
         """``at`` without the prescribed prism: everything else the eye meets there."""
         lens = self._lens
-        x, y = self._sign * in_mm / 10.0, up_mm / 10.0
+        x = self._sign * (in_mm - self._centre_in) / 10.0
+        y = (up_mm - self._centre_up) / 10.0
         base_in = -self._sign * (self._xx * x + self._xy * y)
         base_up = -self._thinning - (self._xy * x + self._yy * y)
         zone = "distance"

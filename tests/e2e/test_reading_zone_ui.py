@@ -366,6 +366,43 @@ def test_apply_near_only_remedy_then_back(zpage):
     assert address_case(page) == held
 
 
+def test_apply_lowered_centres_keeps_the_prescribed_prism(zpage):
+    """Lowered centres on a bifocal wearer with prescribed vertical prism: once applied,
+    the case still carries the prescribed prism as written, the band's induced figure
+    at the reading level is the one the remedy promised, and the order note says where
+    the optical centres sit."""
+    page = zpage
+    doc = json.loads(json.dumps(BIFOCAL))
+    doc["right"]["prism"] = "1 BU"
+    doc["left"]["prism"] = "1 BD"
+    open_case(page, doc)
+    held = address_case(page)
+    before = cli_evaluate(held)
+    lower = before["remedies"]["options"][option_index(before, "lower_centres")]
+    assert lower["available"], lower.get("why_not")
+    seq = result_seq(page)
+    page.click("#zcard-lower_centres .zapply")
+    wait_result(page, after=seq)
+    finished = address_case(page)
+    for eye in ("right", "left"):
+        assert finished[eye]["prism"] == held[eye]["prism"]
+        assert finished[eye]["optical_centre_mm"] == lower["applied_case"][eye]["optical_centre_mm"]
+    assert_figures_match(page, cli_apply("lower_centres", held, "--evaluate"))
+    shown = page.get_attribute(
+        "#answer-band [data-key='reading_zone.at_reading_point.induced_vertical_base_up_right']",
+        "data-value")
+    assert float(shown) == pytest.approx(lower["near"]["induced_vertical_base_up_right"],
+                                         abs=1e-12)
+    page.evaluate("() => window.dispatchEvent(new Event('beforeprint'))")
+    drop = lower["details"]["lowered_mm"]
+    assert f"optical centre {drop:.1f} mm below the fitting point" in page.text_content(
+        "#print-summary")
+    seq = result_seq(page)
+    page.click("#zone-undo")
+    wait_result(page, after=seq)
+    assert address_case(page) == held
+
+
 # ---------------------------------------------------------------- phone, print, accessibility
 def test_phone_360(browser, site):
     SCREENS.mkdir(exist_ok=True)

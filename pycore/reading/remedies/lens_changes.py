@@ -24,20 +24,18 @@ from typing import Any
 
 from pycore.optics.eyes import EYES, Eye, other
 from pycore.optics.prentice import induced_prism
-from pycore.optics.prism import PRISM_LIMIT
 from pycore.reading.remedies.finished_case import (
     Baseline,
     Remedy,
     copy_document,
     eye_document,
     round_to_step,
-    set_prism,
     shifted,
     with_figures,
 )
 from pycore.rounding import fixed, half_up
 from pycore.spectacles.gaze import LENS_REACH_MM, LensPoint
-from pycore.spectacles.lens import SLAB_OFF_LIMIT, Lens
+from pycore.spectacles.lens import CENTRE_MOVE_UP_MM, SLAB_OFF_LIMIT, Lens
 from pycore.spectacles.segments import SegmentOutline, image_jump
 
 SLAB_OFF_USUAL = (1.5, 6.0)  # prism dioptres, common practice
@@ -378,10 +376,13 @@ def lower_centres(base: Baseline) -> Remedy:
         chosen_by = "balancing what is left at distance against the reading point"
     if drop == 0:
         return remedy.refuse("Lowering the centres would not reduce the imbalance here.")
+    # The finished case moves each optical centre (optical_centre_mm): the prism that
+    # gives is induced, so the prescribed prism stays as written.
     document = copy_document(case)
     for eye in EYES:
-        lens = case.lens(eye)
-        set_prism(eye_document(document, eye), lens.prism + per_mm[eye].scaled(drop))
+        centre_in, centre_up = case.lens(eye).centre_mm
+        eye_document(document, eye)["optical_centre_mm"] = {"in_mm": centre_in,
+                                                            "up_mm": centre_up - drop}
     reading = base.figures.geometry.reading_drop_mm
     trade = [{"lowered_mm": float(h), "distance": distance + slope * h,
               "near": base.near + slope * h} for h in range(0, math.ceil(reading) + 1)]
@@ -398,8 +399,8 @@ def lower_centres(base: Baseline) -> Remedy:
                       "at distance.")
     remedy.changes = [
         f"Each lens's optical centre sits {fixed(abs(drop), 1)} mm {place} the pupil; the "
-        "finished case carries it as the prism this decentration gives at the distance "
-        "reference point, on top of the prescribed prism.",
+        "finished case carries it as each lens's optical-centre position, and the prism "
+        "that decentration gives counts as induced (the prescribed prism is unchanged).",
         f"Each mm trades {fixed(abs(slope))} prism dioptres of vertical imbalance between "
         "near and distance.",
     ]
@@ -409,11 +410,11 @@ def lower_centres(base: Baseline) -> Remedy:
     if case.lens("right").segment is not None or case.lens("left").segment is not None:
         remedy.changes.append("The segments stay where they are.")
     # The decentration prism is the same at every point of gaze (closed form), where the
-    # finished prism is one a case may carry.
+    # moved centres are ones a case may carry.
     added = {eye: per_mm[eye].scaled(drop) for eye in EYES}
-    finished = [case.lens(eye).prism + added[eye] for eye in EYES]
+    low, high = CENTRE_MOVE_UP_MM
     closed = None
-    if all(abs(p.base_in) <= PRISM_LIMIT and abs(p.base_up) <= PRISM_LIMIT for p in finished):
+    if all(low <= case.lens(eye).centre_mm[1] - drop <= high for eye in EYES):
         vertical = added["right"].base_up - added["left"].base_up
         closed = shifted(base.figures, vertical, vertical,
                          added["right"].base_in + added["left"].base_in)
