@@ -12,6 +12,8 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any
 
 from pycore.optics.eyes import Eye, nasal_sign
 from pycore.validation import finite_number, in_range
@@ -35,10 +37,16 @@ class Prism:
     base_up: float = 0.0
 
     def __post_init__(self) -> None:
-        finite_number(self.base_in, "base_in", "prism dioptres")
-        finite_number(self.base_up, "base_up", "prism dioptres")
-        object.__setattr__(self, "base_in", float(self.base_in))
-        object.__setattr__(self, "base_up", float(self.base_up))
+        base_in, base_up = self.base_in, self.base_up
+        # Finite floats (x - x is 0 only for them) pass at once; anything else is checked
+        # and refused by finite_number with its message.
+        if not (base_in.__class__ is float and base_up.__class__ is float
+                and base_in - base_in == 0.0 and base_up - base_up == 0.0):
+            base_in = finite_number(base_in, "base_in", "prism dioptres")
+            base_up = finite_number(base_up, "base_up", "prism dioptres")
+        # Stored without a negative zero (-0.0 + 0.0 is 0.0), so none reaches a result.
+        _set(self, "base_in", base_in + 0.0)
+        _set(self, "base_up", base_up + 0.0)
 
     @classmethod
     def prescribed(cls, base_in: float, base_up: float) -> Prism:
@@ -61,6 +69,15 @@ class Prism:
         """From a base vector in the examiner's frame (x to the examiner's right, y up)."""
         return cls(x * nasal_sign(eye), y)
 
+    @classmethod
+    def trusted(cls, base_in: float, base_up: float) -> Prism:
+        """A prism from components that are finite floats already (sums and products of
+        validated values): built without checking them again; no negative zero."""
+        prism = _new(cls)
+        _set(prism, "base_in", base_in + 0.0)
+        _set(prism, "base_up", base_up + 0.0)
+        return prism
+
     def examiner_frame(self, eye: Eye) -> tuple[float, float]:
         """The base vector (x to the examiner's right, y up) for ``eye``."""
         return (self.base_in * nasal_sign(eye), self.base_up)
@@ -79,13 +96,13 @@ class Prism:
         return 0.0 if angle >= 359.9999999 else angle
 
     def __add__(self, other: Prism) -> Prism:
-        return Prism(self.base_in + other.base_in, self.base_up + other.base_up)
+        return Prism.trusted(self.base_in + other.base_in, self.base_up + other.base_up)
 
     def __sub__(self, other: Prism) -> Prism:
-        return Prism(self.base_in - other.base_in, self.base_up - other.base_up)
+        return Prism.trusted(self.base_in - other.base_in, self.base_up - other.base_up)
 
     def __neg__(self) -> Prism:
-        return Prism(-self.base_in, -self.base_up)
+        return Prism.trusted(-self.base_in, -self.base_up)
 
     def scaled(self, factor: float) -> Prism:
         return Prism(self.base_in * factor, self.base_up * factor)
@@ -106,14 +123,26 @@ class Prism:
         return f"{self.amount:.2f} at {self.direction_360(eye):.0f}°"
 
     def as_dict(self, eye: Eye) -> dict[str, float | str]:
-        return {
-            "base_in": self.base_in,
-            "base_up": self.base_up,
-            "amount": self.amount,
-            "direction_360": self.direction_360(eye),
-            "in_words": self.in_words(),
-            "in_360_words": self.in_360_words(eye),
-        }
+        """Components, amount, direction and words (a new dict each call)."""
+        return dict(_as_dict(self, eye))
+
+
+_new = object.__new__
+_set = object.__setattr__
+
+
+@lru_cache(maxsize=256)
+def _as_dict(prism: Prism, eye: Eye) -> dict[str, Any]:
+    """``Prism.as_dict``, kept for the prisms met again (no prism, the prescribed prism
+    at every point, the thinning prism): shared, so copied before it is handed out."""
+    return {
+        "base_in": prism.base_in,
+        "base_up": prism.base_up,
+        "amount": prism.amount,
+        "direction_360": prism.direction_360(eye),
+        "in_words": prism.in_words(),
+        "in_360_words": prism.in_360_words(eye),
+    }
 
 
 def combine(prisms: Iterable[Prism]) -> Prism:
