@@ -9,7 +9,7 @@ from pycore.errors import CaseError
 
 
 def finite_number(value: Any, field: str, unit: str = "") -> float:
-    """``value`` as a float, or a CaseError naming ``field``.
+    """``value`` as a float (a negative zero as 0.0), or a CaseError naming ``field``.
 
     Booleans and numeric strings are refused: a case is written with numbers.
     """
@@ -19,7 +19,7 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
     number = float(value)
     if not math.isfinite(number):
         raise CaseError(field, f"{field} must be a finite number{_unit(unit)}.", value)
-    return number
+    return number + 0.0
 
 
 def in_range(value: Any, field: str, low: float, high: float, unit: str = "") -> float:

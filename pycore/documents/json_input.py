@@ -123,7 +123,7 @@ class _Hooks:
         if not math.isfinite(value):
             return self._refuse(f"is {shown(written, quote=False)}, a number too large to "
                                 "work with")
-        return value
+        return value + 0.0  # -0.0 read as 0.0: no negative zero reaches a result
 
     def object(self, pairs: list[tuple[str, Any]]) -> dict[str, Any]:
         result: dict[str, Any] = {}

@@ -62,9 +62,9 @@ class Prescription:
         in_range(self.sphere, "sphere", -SPHERE_LIMIT_D, SPHERE_LIMIT_D, "dioptres")
         in_range(self.cylinder, "cylinder", -CYLINDER_LIMIT_D, CYLINDER_LIMIT_D, "dioptres")
         in_range(self.axis, "axis", 0, 180, "degrees")
-        object.__setattr__(self, "sphere", float(self.sphere))
-        object.__setattr__(self, "cylinder", float(self.cylinder))
-        object.__setattr__(self, "axis", float(self.axis))
+        object.__setattr__(self, "sphere", float(self.sphere) + 0.0)
+        object.__setattr__(self, "cylinder", float(self.cylinder) + 0.0)
+        object.__setattr__(self, "axis", float(self.axis) + 0.0)
 
     def transposed(self) -> Prescription:
         """The same lens with the cylinder in the other sign form."""
@@ -85,7 +85,9 @@ class Prescription:
         a = math.radians(self.axis)
         s, c = math.sin(a), math.cos(a)
         cyl = self.cylinder
-        return PowerMatrix(self.sphere + cyl * s * s, -cyl * s * c, self.sphere + cyl * c * c)
+        # + 0.0: no negative zero (-cyl s c is -0.0 for a sphere).
+        return PowerMatrix(self.sphere + cyl * s * s + 0.0, -cyl * s * c + 0.0,
+                           self.sphere + cyl * c * c + 0.0)
 
     def power_in_meridian(self, meridian_deg: float) -> float:
         """Curvital power along a meridian (degrees): S + C sin^2(meridian - axis)."""
