@@ -8,11 +8,20 @@ from typing import Any
 from pycore.errors import CaseError
 
 
+_EXACT_INT = 2 ** 53
+"""Integers up to this size are exact as floats."""
+
+
 def finite_number(value: Any, field: str, unit: str = "") -> float:
     """``value`` as a float (a negative zero as 0.0), or a CaseError naming ``field``.
 
     Booleans and numeric strings are refused: a case is written with numbers.
     """
+    kind = value.__class__
+    if kind is float and value - value == 0.0:  # finite: the usual cases, at once
+        return value + 0.0
+    if kind is int and -_EXACT_INT <= value <= _EXACT_INT:
+        return float(value)
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         shown = repr(value) if not isinstance(value, (dict, list)) else type(value).__name__
         raise CaseError(field, f"{field} must be a number{_unit(unit)}, not {shown}.", value)
@@ -24,6 +33,8 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
 
 def in_range(value: Any, field: str, low: float, high: float, unit: str = "") -> float:
     """A finite number within [low, high], or a CaseError saying the range."""
+    if value.__class__ is float and value - value == 0.0 and low <= value <= high:
+        return value + 0.0  # the usual case, at once
     number = finite_number(value, field, unit)
     if not low <= number <= high:
         raise CaseError(

@@ -131,7 +131,7 @@ _new = object.__new__
 _set = object.__setattr__
 
 
-@lru_cache(maxsize=256)
+@lru_cache(maxsize=64)
 def _as_dict(prism: Prism, eye: Eye) -> dict[str, Any]:
     """``Prism.as_dict``, kept for the prisms met again (no prism, the prescribed prism
     at every point, the thinning prism): shared, so copied before it is handed out."""
