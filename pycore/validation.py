@@ -7,7 +7,6 @@ from typing import Any
 
 from pycore.errors import CaseError
 
-
 _EXACT_INT = 2 ** 53
 """Integers up to this size are exact as floats."""
 
@@ -19,7 +18,7 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
     """
     kind = value.__class__
     if kind is float and value - value == 0.0:  # finite: the usual cases, at once
-        return value + 0.0
+        return float(value + 0.0)
     if kind is int and -_EXACT_INT <= value <= _EXACT_INT:
         return float(value)
     if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -34,7 +33,7 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
 def in_range(value: Any, field: str, low: float, high: float, unit: str = "") -> float:
     """A finite number within [low, high], or a CaseError saying the range."""
     if value.__class__ is float and value - value == 0.0 and low <= value <= high:
-        return value + 0.0  # the usual case, at once
+        return float(value + 0.0)  # the usual case, at once
     number = finite_number(value, field, unit)
     if not low <= number <= high:
         raise CaseError(
