@@ -18,7 +18,8 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
     """
     kind = value.__class__
     if kind is float and value - value == 0.0:  # finite: the usual cases, at once
-        return float(value + 0.0)
+        same: float = value + 0.0
+        return same
     if kind is int and -_EXACT_INT <= value <= _EXACT_INT:
         return float(value)
     if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -33,7 +34,8 @@ def finite_number(value: Any, field: str, unit: str = "") -> float:
 def in_range(value: Any, field: str, low: float, high: float, unit: str = "") -> float:
     """A finite number within [low, high], or a CaseError saying the range."""
     if value.__class__ is float and value - value == 0.0 and low <= value <= high:
-        return float(value + 0.0)  # the usual case, at once
+        inside: float = value + 0.0  # the usual case, at once
+        return inside
     number = finite_number(value, field, unit)
     if not low <= number <= high:
         raise CaseError(
