@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 from decimal import ROUND_HALF_UP, Decimal
 
 from pycore.validation import in_range
@@ -79,9 +80,10 @@ class Prescription:
     def in_plus_cylinder(self) -> Prescription:
         return self.transposed() if self.cylinder < 0 else self
 
-    @property
+    @cached_property
     def power_matrix(self) -> PowerMatrix:
-        """The dioptric power matrix, frame x to the examiner's right, y up."""
+        """The dioptric power matrix, frame x to the examiner's right, y up (worked out
+        once: the prescription is immutable)."""
         a = math.radians(self.axis)
         s, c = math.sin(a), math.cos(a)
         cyl = self.cylinder
