@@ -11,8 +11,8 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import cached_property
 from decimal import ROUND_HALF_UP, Decimal
+from functools import cached_property
 
 from pycore.validation import in_range
 
