@@ -93,7 +93,7 @@ class NetSampler:
                 points.append([(inset + side, up) for side in sides])
         right_at, left_at = self._right.unprescribed_at, self._left.unprescribed_at
         rp, lp = self._right_prism, self._left_prism
-        extra_v, extra_h = self._extra_vertical, self._extra_horizontal
+        extra_v = self._extra_vertical
         vertical: list[float] = []
         induced: list[float] = []
         horizontal: list[float] = []
