@@ -7,6 +7,8 @@ lens with no cylinder).
 
 from __future__ import annotations
 
+import json
+from collections import OrderedDict
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from functools import partial
@@ -102,7 +104,7 @@ def read_case(document: Any) -> Case:
         height = None
         if fitting is not None:
             height = (fitting.right if eye == "right" else fitting.left).height_mm
-        lenses[eye] = read_lens(obj[eye], eye, height)
+        lenses[eye] = _read_lens_kept(obj[eye], eye, height)
     frame = read_frame(obj["frame"], "frame") if "frame" in obj else None
     if "points" in obj:
         points = read_points(obj["points"], "points", fitting)
@@ -125,6 +127,30 @@ def read_case_text(text: str | bytes) -> Case:
 
 _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",
               "progressive")
+
+
+_KEPT_LENSES: OrderedDict[tuple[str, str, float | None], Lens] = OrderedDict()
+_KEPT = 16
+"""How many lenses read lately are kept (both eyes of a few cases)."""
+
+
+def _read_lens_kept(value: Any, path: str, fitting_height_mm: float | None) -> Lens:
+    """``read_lens``, not done again for a lens document read lately (the other eye,
+    while a person edits one; the lens a remedy leaves alone): a Lens is immutable.
+    Refusals are not kept, so they are found and said each time."""
+    try:
+        key = (json.dumps(value, sort_keys=True, allow_nan=False), path, fitting_height_mm)
+    except (TypeError, ValueError):
+        return read_lens(value, path, fitting_height_mm)
+    found = _KEPT_LENSES.get(key)
+    if found is not None:
+        _KEPT_LENSES.move_to_end(key)
+        return found
+    lens = read_lens(value, path, fitting_height_mm)
+    _KEPT_LENSES[key] = lens
+    if len(_KEPT_LENSES) > _KEPT:
+        _KEPT_LENSES.popitem(last=False)
+    return lens
 
 
 def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> Lens:
