@@ -66,6 +66,12 @@ def load_json(text: str | bytes, what: str = "the case", nesting: int = MAX_NEST
         found = _plain_document(text, nesting)
         if found is not None:
             return found[0]
+    return _read_carefully(text, label, nesting)
+
+
+def _read_carefully(text: str, label: str, nesting: int) -> Any:
+    """The document with a check of every value as it is parsed; refusals name the first
+    bad value's field (``label`` for the document itself)."""
     hooks = _Hooks()
     try:
         document = json.loads(text, parse_constant=hooks.constant, parse_int=hooks.integer,
