@@ -95,7 +95,7 @@ def read_case(document: Any) -> Case:
     obj = _object(document, "", "the case")
     _only_keys(obj, "", (*_TOP_KEYS, *SECTIONS))
     obj = fold_reading_depth(obj)
-    fitting = read_fitting(obj["fitting"], "fitting") if "fitting" in obj else None
+    fitting = _read_kept(read_fitting, obj["fitting"], "fitting") if "fitting" in obj else None
     lenses = {}
     for eye in EYES:
         if eye not in obj:
@@ -129,28 +129,32 @@ _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "sl
               "progressive")
 
 
-_KEPT_LENSES: OrderedDict[tuple[str, str, float | None], Lens] = OrderedDict()
+_KEPT_PARTS: OrderedDict[tuple[str, str, tuple[Any, ...]], Any] = OrderedDict()
 _KEPT = 16
-"""How many lenses read lately are kept (both eyes of a few cases)."""
+"""How many parts of cases read lately are kept (both lenses and the fitting of a few)."""
+
+
+def _read_kept(read: Callable[..., T], value: Any, *args: Any) -> T:
+    """``read(value, *args)``, not done again for a part read lately (the other eye's
+    lens while a person edits one, the lens and fitting a remedy leaves alone): what
+    the readers make is immutable. Refusals are not kept: they are said each time."""
+    try:
+        key = (read.__name__, json.dumps(value, sort_keys=True, allow_nan=False), args)
+    except (TypeError, ValueError):
+        return read(value, *args)
+    if key in _KEPT_PARTS:
+        _KEPT_PARTS.move_to_end(key)
+        found: T = _KEPT_PARTS[key]
+        return found
+    made = read(value, *args)
+    _KEPT_PARTS[key] = made
+    if len(_KEPT_PARTS) > _KEPT:
+        _KEPT_PARTS.popitem(last=False)
+    return made
 
 
 def _read_lens_kept(value: Any, path: str, fitting_height_mm: float | None) -> Lens:
-    """``read_lens``, not done again for a lens document read lately (the other eye,
-    while a person edits one; the lens a remedy leaves alone): a Lens is immutable.
-    Refusals are not kept, so they are found and said each time."""
-    try:
-        key = (json.dumps(value, sort_keys=True, allow_nan=False), path, fitting_height_mm)
-    except (TypeError, ValueError):
-        return read_lens(value, path, fitting_height_mm)
-    found = _KEPT_LENSES.get(key)
-    if found is not None:
-        _KEPT_LENSES.move_to_end(key)
-        return found
-    lens = read_lens(value, path, fitting_height_mm)
-    _KEPT_LENSES[key] = lens
-    if len(_KEPT_LENSES) > _KEPT:
-        _KEPT_LENSES.popitem(last=False)
-    return lens
+    return _read_kept(read_lens, value, path, fitting_height_mm)
 
 
 def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> Lens:
