@@ -12,8 +12,6 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable
 from dataclasses import dataclass
-from functools import lru_cache
-from typing import Any
 
 from pycore.optics.eyes import Eye, nasal_sign
 from pycore.validation import finite_number, in_range
@@ -124,25 +122,30 @@ class Prism:
 
     def as_dict(self, eye: Eye) -> dict[str, float | str]:
         """Components, amount, direction and words (a new dict each call)."""
-        return dict(_as_dict(self, eye))
+        base_in, base_up = self.base_in, self.base_up
+        if not base_in and not base_up:
+            return dict(_NO_PRISM_DICT)  # the most usual part: the same every time
+        amount = math.hypot(base_in, base_up)
+        direction = self.direction_360(eye)
+        return {
+            "base_in": base_in,
+            "base_up": base_up,
+            "amount": amount,
+            "direction_360": direction,
+            "in_words": self.in_words(),
+            "in_360_words": (f"{amount:.2f} at {direction:.0f}°" if amount >= _WORDS_EPSILON
+                             else "no prism"),
+        }
 
 
 _new = object.__new__
 _set = object.__setattr__
 
 
-@lru_cache(maxsize=64)
-def _as_dict(prism: Prism, eye: Eye) -> dict[str, Any]:
-    """``Prism.as_dict``, kept for the prisms met again (no prism, the prescribed prism
-    at every point, the thinning prism): shared, so copied before it is handed out."""
-    return {
-        "base_in": prism.base_in,
-        "base_up": prism.base_up,
-        "amount": prism.amount,
-        "direction_360": prism.direction_360(eye),
-        "in_words": prism.in_words(),
-        "in_360_words": prism.in_360_words(eye),
-    }
+_NO_PRISM_DICT: dict[str, float | str] = {
+    "base_in": 0.0, "base_up": 0.0, "amount": 0.0, "direction_360": 0.0,
+    "in_words": "no prism", "in_360_words": "no prism"}
+"""``Prism().as_dict(eye)``, the same for either eye."""
 
 
 def combine(prisms: Iterable[Prism]) -> Prism:
