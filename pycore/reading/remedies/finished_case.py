@@ -259,8 +259,11 @@ def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
         remedy.applied, remedy.figures = document, closed_form
         return remedy
     try:
-        case = finished(document)
-        figures = Figures.of(case, baseline.figures.prescribed)
+        if document == baseline.case.document:
+            # Nothing changed: the finished case is the case itself, evaluated already.
+            figures = baseline.figures
+        else:
+            figures = Figures.of(finished(document), baseline.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:
