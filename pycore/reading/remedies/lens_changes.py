@@ -284,11 +284,12 @@ def dissimilar_segments(base: Baseline) -> Remedy:
                      (None, *[m for m in made_segments() if m != current[eye] and fits(eye, m)])]
                for eye in EYES}
     best: tuple[Any, ...] | None = None
+    near = base.near
     for right, right_change, right_jump in choices["right"]:
         for left, left_change, left_jump in choices["left"]:
             if right is None and left is None:
                 continue
-            residual = base.near + right_change + left_change
+            residual = near + right_change + left_change
             changed = int(right is not None) + int(left is not None)
             key = (half_up(abs(residual), 0.001), changed, right_jump + left_jump)
             if best is None or key < best[0]:
