@@ -117,7 +117,9 @@ def read_case(document: Any) -> Case:
     _text(obj.get("notes", ""), "notes", 2000)
     if "schema" in obj:
         in_range(obj["schema"], "schema", 1, 1)
-    extras = {key: reader(obj[key], key) for key, reader in SECTIONS.items() if key in obj}
+    extras = {key: (_read_kept(reader, obj[key], key) if key == "reading_zone"
+                    else reader(obj[key], key))
+              for key, reader in SECTIONS.items() if key in obj}
     return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
 
 
