@@ -5,7 +5,9 @@ of zero) as the slower path it replaced.
 - no negative zero anywhere in a result, now that numbers are made without one at the
   source, is checked by the old walk (``without_negative_zero``) changing nothing;
   IEEE 754 round-to-nearest makes -0.0 + 0.0 = +0.0, which the sources rely on;
-- the map's rows (``NetSampler.row``) are the cells ``NetSampler.at`` samples one by one;
+- the map's rows (``NetSampler.row``, ``LensSampler.unprescribed_row``: the prism is
+  linear across a row within one zone, Prentice's rule) are the cells sampled one by
+  one (``NetSampler.at``, ``LensSampler.unprescribed_at``);
 - the quick JSON reader gives the document the careful reader (a check per value)
   gives, and declines every document the careful reader refuses;
 - ``Prism.trusted`` is the checked ``Prism``; a lens read lately and kept is the lens
@@ -32,6 +34,7 @@ from pycore.reading.imbalance_map import NetSampler, _steps
 from pycore.reading.options import options_of
 from pycore.reading.reading_point import reading_geometry
 from pycore.rounding import without_negative_zero
+from pycore.spectacles.sampler import LensSampler
 
 ZEROS = st.sampled_from([0, 0.0, -0.0])
 
@@ -149,6 +152,23 @@ def test_map_rows_are_the_sampled_cells(document: dict[str, Any]) -> None:
         assert [repr(v) for v in horizontal] == [repr(c.horizontal) for c in cells]
         assert zones_r == [c.zones[0] for c in cells]
         assert zones_l == [c.zones[1] for c in cells]
+
+
+@settings(max_examples=100, deadline=None)
+@given(cases(), st.sampled_from(["right", "left"]), st.floats(-30, 10),
+       st.lists(st.floats(-20, 20), min_size=1, max_size=12))
+def test_a_lens_row_is_its_points(document: dict[str, Any], eye: str, up_mm: float,
+                                  ins_mm: list[float]) -> None:
+    """Each eye's row at one height (``unprescribed_row``) is the points sampled one by one,
+    in every zone: distance, segment (in and out of its outline), corridor and near."""
+    case = _case_or_none(document)
+    if case is None:
+        return
+    sampler = LensSampler(case.lens(eye), eye)  # type: ignore[arg-type]
+    row = sampler.unprescribed_row(ins_mm, up_mm)
+    points = [sampler.unprescribed_at(in_mm, up_mm) for in_mm in ins_mm]
+    assert [(repr(a), repr(b), zone) for a, b, zone in row] == \
+        [(repr(a), repr(b), zone) for a, b, zone in points]
 
 
 JSON_VALUES = st.recursive(

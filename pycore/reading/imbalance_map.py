@@ -76,22 +76,23 @@ class NetSampler:
     def row(self, drop_mm: float, laterals: list[float]) -> tuple[list[Any], ...]:
         """``at`` for one drop and many lateral gazes, as columns: (vertical, induced
         vertical, horizontal) and each eye's zone. The same numbers as ``at`` (the
-        same sums, in the same order), without a point or a value made per gaze."""
+        same sums, in the same order), each eye's row at once (LensSampler's
+        ``unprescribed_row``), without a point or a value made per gaze."""
         geometry = self.geometry
-        points = []
-        for index, eye in enumerate(EYES):
+        rows = []
+        for index, (eye, sampler) in enumerate(zip(EYES, (self._right, self._left),
+                                                   strict=True)):
             if geometry.worn_as == "contact_lenses":
-                points.append([(0.0, 0.0)] * len(laterals))
+                rows.append(sampler.unprescribed_row([0.0] * len(laterals), 0.0))
                 continue
             inset = geometry.inset_at(eye, drop_mm)
             sides = [-lateral for lateral in laterals] if eye == "right" else laterals
             if geometry.worn_as == "reading_spectacles":
                 near, up = geometry.near_inset_mm[index], geometry.reading_drop_mm - drop_mm
-                points.append([(inset + side - near, up) for side in sides])
+                rows.append(sampler.unprescribed_row([inset + side - near for side in sides], up))
             else:
                 up = geometry.primary_up_mm[index] - drop_mm
-                points.append([(inset + side, up) for side in sides])
-        right_at, left_at = self._right.unprescribed_at, self._left.unprescribed_at
+                rows.append(sampler.unprescribed_row([inset + side for side in sides], up))
         rp, lp = self._right_prism, self._left_prism
         extra_v = self._extra_vertical
         vertical: list[float] = []
@@ -99,8 +100,7 @@ class NetSampler:
         horizontal: list[float] = []
         zones_r: list[str] = []
         zones_l: list[str] = []
-        for (r_in, r_up), (l_in, l_up) in zip(points[0], points[1], strict=True):
-            right, left = right_at(r_in, r_up), left_at(l_in, l_up)
+        for right, left in zip(rows[0], rows[1], strict=True):
             vertical.append((right[1] + rp.base_up) - (left[1] + lp.base_up))
             induced.append(right[1] - left[1] + extra_v)
             horizontal.append((right[0] + rp.base_in) + (left[0] + lp.base_in))
