@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 from pycore.validation import in_range
 
@@ -127,9 +127,11 @@ def _is_zero(value: float) -> bool:
     return abs(value) < 0.005
 
 
+@lru_cache(maxsize=32)
 def written_dioptres(value: float) -> str:
     """A power the trade's way: sign always, two decimals, half up (``+1.00``,
-    ``-0.13``); zero is ``+0.00``, never ``-0.00``."""
+    ``-0.13``); zero is ``+0.00``, never ``-0.00``. (The last few are kept: a lens
+    writes the same powers at every keystroke that leaves it alone.)"""
     rounded = Decimal(repr(float(value))).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP)
     if rounded == 0:
         return "+0.00"
@@ -142,6 +144,7 @@ def written_sphere(value: float) -> str:
     return PLANO if text == "+0.00" else text
 
 
+@lru_cache(maxsize=32)
 def written_axis(axis: float) -> str:
     """An axis as a whole number of degrees, half up, 180 for 0 (common practice)."""
     whole = int(Decimal(repr(float(axis))).quantize(Decimal("1"), rounding=ROUND_HALF_UP))
