@@ -116,23 +116,19 @@ def _plain_document(text: str, nesting: int) -> tuple[Any] | None:
         container, depth = stack.pop()
         if depth > nesting:
             return None
-        values = container.values() if isinstance(container, dict) else container
-        for index, value in enumerate(values):
+        entries = container.items() if container.__class__ is dict else enumerate(container)
+        for key, value in entries:
             kind = value.__class__
             if kind is float:
                 if value - value != 0.0:  # NaN or an infinity
                     return None
-                if value == 0.0 and isinstance(container, list):
-                    container[index] = 0.0
+                if value == 0.0:
+                    container[key] = 0.0  # (the same key: the dict keeps its size)
             elif kind is int:
                 if not -_LARGEST_INT <= value <= _LARGEST_INT:  # (more than 400 digits too)
                     return None
             elif kind is dict or kind is list:
                 stack.append((value, depth + 1))
-        if isinstance(container, dict):
-            for key, value in container.items():
-                if value.__class__ is float and value == 0.0:
-                    container[key] = 0.0
     return (document,)
 
 
