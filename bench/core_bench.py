@@ -182,8 +182,10 @@ def main() -> None:
         if args.raw:
             print(json.dumps(found))
             return
+        code = "" if args.code.resolve() == ROOT else f", the pycore of {args.code}"
         lines = [header(args.runs, load_before, os.getloadavg(),
-                        f"{args.clock} clock, a differently edited case text each run"), "",
+                        f"{args.clock} clock, a differently edited case text each run{code}"),
+                 "",
                  "| case | sections | p50 ms | p95 ms | p95 goal met |",
                  "|---|---|---|---|---|"]
         for case, per_kind in found.items():
