@@ -33,7 +33,6 @@ from pycore.optics.eyes import EYES, Eye
 from pycore.reading.reading_point import find_fitting_point
 from pycore.reading.remedies.side_by_side import remedies_section
 from pycore.reading.zone import reading_zone_section
-from pycore.rounding import without_negative_zero
 from pycore.spectacles.binocular import NetPrism
 from pycore.spectacles.decentration import (
     decentration_for_prism,
@@ -250,5 +249,4 @@ def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
         verdicts = verification_section(case, result)
         if verdicts is not None:
             result["verification"] = verdicts
-    without_negative_zero(result)
     return result

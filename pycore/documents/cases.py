@@ -7,6 +7,8 @@ lens with no cylinder).
 
 from __future__ import annotations
 
+import json
+from collections import OrderedDict
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from functools import partial
@@ -93,7 +95,7 @@ def read_case(document: Any) -> Case:
     obj = _object(document, "", "the case")
     _only_keys(obj, "", (*_TOP_KEYS, *SECTIONS))
     obj = fold_reading_depth(obj)
-    fitting = read_fitting(obj["fitting"], "fitting") if "fitting" in obj else None
+    fitting = _read_kept(read_fitting, obj["fitting"], "fitting") if "fitting" in obj else None
     lenses = {}
     for eye in EYES:
         if eye not in obj:
@@ -102,7 +104,7 @@ def read_case(document: Any) -> Case:
         height = None
         if fitting is not None:
             height = (fitting.right if eye == "right" else fitting.left).height_mm
-        lenses[eye] = read_lens(obj[eye], eye, height)
+        lenses[eye] = _read_lens_kept(obj[eye], eye, height)
     frame = read_frame(obj["frame"], "frame") if "frame" in obj else None
     if "points" in obj:
         points = read_points(obj["points"], "points", fitting)
@@ -115,7 +117,9 @@ def read_case(document: Any) -> Case:
     _text(obj.get("notes", ""), "notes", 2000)
     if "schema" in obj:
         in_range(obj["schema"], "schema", 1, 1)
-    extras = {key: reader(obj[key], key) for key, reader in SECTIONS.items() if key in obj}
+    extras = {key: (_read_kept(reader, obj[key], key) if key == "reading_zone"
+                    else reader(obj[key], key))
+              for key, reader in SECTIONS.items() if key in obj}
     return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
 
 
@@ -125,6 +129,34 @@ def read_case_text(text: str | bytes) -> Case:
 
 _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",
               "progressive", "optical_centre_mm")
+
+
+_KEPT_PARTS: OrderedDict[tuple[str, str, tuple[Any, ...]], Any] = OrderedDict()
+_KEPT = 16
+"""How many parts of cases read lately are kept (both lenses and the fitting of a few)."""
+
+
+def _read_kept(read: Callable[..., T], value: Any, *args: Any) -> T:
+    """``read(value, *args)``, not done again for a part read lately (the other eye's
+    lens while a person edits one, the lens and fitting a remedy leaves alone): what
+    the readers make is immutable. Refusals are not kept: they are said each time."""
+    try:
+        key = (read.__name__, json.dumps(value, sort_keys=True, allow_nan=False), args)
+    except (TypeError, ValueError):
+        return read(value, *args)
+    if key in _KEPT_PARTS:
+        _KEPT_PARTS.move_to_end(key)
+        found: T = _KEPT_PARTS[key]
+        return found
+    made = read(value, *args)
+    _KEPT_PARTS[key] = made
+    if len(_KEPT_PARTS) > _KEPT:
+        _KEPT_PARTS.popitem(last=False)
+    return made
+
+
+def _read_lens_kept(value: Any, path: str, fitting_height_mm: float | None) -> Lens:
+    return _read_kept(read_lens, value, path, fitting_height_mm)
 
 
 def read_lens(value: Any, path: str, fitting_height_mm: float | None = None) -> Lens:

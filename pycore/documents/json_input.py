@@ -62,6 +62,16 @@ def load_json(text: str | bytes, what: str = "the case", nesting: int = MAX_NEST
     text = text.removeprefix("\ufeff")
     if not text.strip():
         raise CaseError("", f"{label} is empty; expected a JSON object.")
+    if not _SURROGATE.search(text) and not _SURROGATE_ESCAPE.search(text):
+        found = _plain_document(text, nesting)
+        if found is not None:
+            return found[0]
+    return _read_carefully(text, label, nesting)
+
+
+def _read_carefully(text: str, label: str, nesting: int) -> Any:
+    """The document with a check of every value as it is parsed; refusals name the first
+    bad value's field (``label`` for the document itself)."""
     hooks = _Hooks()
     try:
         document = json.loads(text, parse_constant=hooks.constant, parse_int=hooks.integer,
@@ -76,6 +86,54 @@ def load_json(text: str | bytes, what: str = "the case", nesting: int = MAX_NEST
     if hooks.refused or _SURROGATE.search(text) or _SURROGATE_ESCAPE.search(text):
         _walk(document, label)
     return document
+
+
+def _plain_document(text: str, nesting: int) -> tuple[Any] | None:
+    """The document, when the text is one a person usually sends: valid JSON with no
+    key twice in an object, finite numbers only, integers of at most ``MAX_INT_DIGITS``
+    digits that a double can hold, nested at most ``nesting`` levels (a -0.0 read as
+    0.0). None otherwise: the careful reader then finds and names what is wrong.
+
+    The quick way to the same document as the careful reader: the parser's own
+    numbers, one walk of the containers afterwards instead of a call per value."""
+    duplicated = False
+
+    def pairs(items: list[tuple[str, Any]]) -> dict[str, Any]:
+        nonlocal duplicated
+        result = dict(items)
+        if len(result) != len(items):
+            duplicated = True
+        return result
+
+    try:
+        document = json.loads(text, object_pairs_hook=pairs)
+    except (ValueError, RecursionError):
+        return None
+    if duplicated or not isinstance(document, (dict, list)):
+        return None
+    stack: list[tuple[Any, int]] = [(document, 1)]
+    while stack:
+        container, depth = stack.pop()
+        if depth > nesting:
+            return None
+        entries = container.items() if container.__class__ is dict else enumerate(container)
+        for key, value in entries:
+            kind = value.__class__
+            if kind is float:
+                if value - value != 0.0:  # NaN or an infinity
+                    return None
+                if value == 0.0:
+                    container[key] = 0.0  # (the same key: the dict keeps its size)
+            elif kind is int:
+                if not -_LARGEST_INT <= value <= _LARGEST_INT:  # (more than 400 digits too)
+                    return None
+            elif kind is dict or kind is list:
+                stack.append((value, depth + 1))
+    return (document,)
+
+
+_LARGEST_INT = int(1.7976931348623157e308)
+"""The largest integer a double holds (larger ones cannot be worked with)."""
 
 
 def too_large(label: str, size: int, exact: bool = True) -> CaseError:
@@ -123,7 +181,7 @@ class _Hooks:
         if not math.isfinite(value):
             return self._refuse(f"is {shown(written, quote=False)}, a number too large to "
                                 "work with")
-        return value
+        return value + 0.0  # -0.0 read as 0.0: no negative zero reaches a result
 
     def object(self, pairs: list[tuple[str, Any]]) -> dict[str, Any]:
         result: dict[str, Any] = {}

@@ -25,6 +25,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import lru_cache
 
 from pycore.errors import CaseError
 from pycore.optics.eyes import Eye
@@ -394,8 +395,21 @@ def _read_clauses(line: _Line, allow_add: bool,
 def parse_written(text: object, field: str = "rx", eye: Eye | None = None) -> WrittenPrescription:
     """A prescription line with any add and prism written on it; refusals name ``field``.
 
-    ``eye`` is needed only for prism in 360-degree notation (``2.5 @ 37``).
+    ``eye`` is needed only for prism in 360-degree notation (``2.5 @ 37``). A line read
+    lately is not read again (the other eye's line, while a person edits one).
     """
+    if isinstance(text, str):
+        return _parse_written_line(text, field, eye)
+    return _parse_written(text, field, eye)
+
+
+@lru_cache(maxsize=16)
+def _parse_written_line(text: str, field: str, eye: Eye | None) -> WrittenPrescription:
+    """``parse_written`` of a text, kept (its value is immutable; a refusal is not kept)."""
+    return _parse_written(text, field, eye)
+
+
+def _parse_written(text: object, field: str, eye: Eye | None) -> WrittenPrescription:
     hint = f"write it as sphere / cylinder x axis, then any add and prism, e.g. {RX_EXAMPLE}"
     line = _Line(_tokens(_normalise(text, field, RX_EXAMPLE)), field, hint)
     sphere = _read_sphere(line)
@@ -444,7 +458,20 @@ def parse_sphere(value: object, field: str = "sphere") -> float:
 
 
 def parse_prism(text: object, eye: Eye, field: str = "prism") -> Prism:
-    """A written prism for ``eye`` (``1.5 BU 2 BI``, ``2.5 @ 37``); empty text is no prism."""
+    """A written prism for ``eye`` (``1.5 BU 2 BI``, ``2.5 @ 37``); empty text is no prism.
+    A prism read lately is not read again."""
+    if isinstance(text, str):
+        return _parse_prism_line(text, eye, field)
+    return _parse_prism(text, eye, field)
+
+
+@lru_cache(maxsize=16)
+def _parse_prism_line(text: str, eye: Eye, field: str) -> Prism:
+    """``parse_prism`` of a text, kept (a Prism is immutable; a refusal is not kept)."""
+    return _parse_prism(text, eye, field)
+
+
+def _parse_prism(text: object, eye: Eye, field: str) -> Prism:
     hint = f"write each prism as an amount and a base, e.g. {PRISM_EXAMPLE}"
     cleaned = _normalise(text, field, "1.5 BU")
     if cleaned.lower() in _NO_PRISM:

@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
+from functools import cached_property, lru_cache
 
 from pycore.validation import in_range
 
@@ -62,9 +63,9 @@ class Prescription:
         in_range(self.sphere, "sphere", -SPHERE_LIMIT_D, SPHERE_LIMIT_D, "dioptres")
         in_range(self.cylinder, "cylinder", -CYLINDER_LIMIT_D, CYLINDER_LIMIT_D, "dioptres")
         in_range(self.axis, "axis", 0, 180, "degrees")
-        object.__setattr__(self, "sphere", float(self.sphere))
-        object.__setattr__(self, "cylinder", float(self.cylinder))
-        object.__setattr__(self, "axis", float(self.axis))
+        object.__setattr__(self, "sphere", float(self.sphere) + 0.0)
+        object.__setattr__(self, "cylinder", float(self.cylinder) + 0.0)
+        object.__setattr__(self, "axis", float(self.axis) + 0.0)
 
     def transposed(self) -> Prescription:
         """The same lens with the cylinder in the other sign form."""
@@ -79,13 +80,16 @@ class Prescription:
     def in_plus_cylinder(self) -> Prescription:
         return self.transposed() if self.cylinder < 0 else self
 
-    @property
+    @cached_property
     def power_matrix(self) -> PowerMatrix:
-        """The dioptric power matrix, frame x to the examiner's right, y up."""
+        """The dioptric power matrix, frame x to the examiner's right, y up (worked out
+        once: the prescription is immutable)."""
         a = math.radians(self.axis)
         s, c = math.sin(a), math.cos(a)
         cyl = self.cylinder
-        return PowerMatrix(self.sphere + cyl * s * s, -cyl * s * c, self.sphere + cyl * c * c)
+        # + 0.0: no negative zero (-cyl s c is -0.0 for a sphere).
+        return PowerMatrix(self.sphere + cyl * s * s + 0.0, -cyl * s * c + 0.0,
+                           self.sphere + cyl * c * c + 0.0)
 
     def power_in_meridian(self, meridian_deg: float) -> float:
         """Curvital power along a meridian (degrees): S + C sin^2(meridian - axis)."""
@@ -123,9 +127,11 @@ def _is_zero(value: float) -> bool:
     return abs(value) < 0.005
 
 
+@lru_cache(maxsize=32)
 def written_dioptres(value: float) -> str:
     """A power the trade's way: sign always, two decimals, half up (``+1.00``,
-    ``-0.13``); zero is ``+0.00``, never ``-0.00``."""
+    ``-0.13``); zero is ``+0.00``, never ``-0.00``. (The last few are kept: a lens
+    writes the same powers at every keystroke that leaves it alone.)"""
     rounded = Decimal(repr(float(value))).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP)
     if rounded == 0:
         return "+0.00"
@@ -138,6 +144,7 @@ def written_sphere(value: float) -> str:
     return PLANO if text == "+0.00" else text
 
 
+@lru_cache(maxsize=32)
 def written_axis(axis: float) -> str:
     """An axis as a whole number of degrees, half up, 180 for 0 (common practice)."""
     whole = int(Decimal(repr(float(axis))).quantize(Decimal("1"), rounding=ROUND_HALF_UP))

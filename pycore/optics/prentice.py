@@ -19,11 +19,11 @@ def induced_prism(power: PowerMatrix, point: LensPoint, eye: Eye,
                   centre_mm: tuple[float, float] = (0.0, 0.0)) -> Prism:
     """Prism a power induces at ``point`` of ``eye``'s lens when its optical centre is at
     ``centre_mm`` = (in_mm, up_mm), default the reference point."""
-    x, y = point.examiner_frame_cm(eye)
-    x -= nasal_sign(eye) * centre_mm[0] / 10.0
-    y -= centre_mm[1] / 10.0
-    px, py = power.times(x, y)
-    return Prism.from_examiner_frame(-px, -py, eye)
+    sign = nasal_sign(eye)
+    x = sign * point.in_mm / 10.0 - sign * centre_mm[0] / 10.0
+    y = point.up_mm / 10.0 - centre_mm[1] / 10.0
+    # -F r in the examiner's frame, then base in = its x component times the nasal sign.
+    return Prism.trusted(-(power.xx * x + power.xy * y) * sign, -(power.xy * x + power.yy * y))
 
 
 def prentice(decentration_cm: float, power_d: float) -> float:

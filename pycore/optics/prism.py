@@ -35,10 +35,16 @@ class Prism:
     base_up: float = 0.0
 
     def __post_init__(self) -> None:
-        finite_number(self.base_in, "base_in", "prism dioptres")
-        finite_number(self.base_up, "base_up", "prism dioptres")
-        object.__setattr__(self, "base_in", float(self.base_in))
-        object.__setattr__(self, "base_up", float(self.base_up))
+        base_in, base_up = self.base_in, self.base_up
+        # Finite floats (x - x is 0 only for them) pass at once; anything else is checked
+        # and refused by finite_number with its message.
+        if not (base_in.__class__ is float and base_up.__class__ is float
+                and base_in - base_in == 0.0 and base_up - base_up == 0.0):
+            base_in = finite_number(base_in, "base_in", "prism dioptres")
+            base_up = finite_number(base_up, "base_up", "prism dioptres")
+        # Stored without a negative zero (-0.0 + 0.0 is 0.0), so none reaches a result.
+        _set(self, "base_in", base_in + 0.0)
+        _set(self, "base_up", base_up + 0.0)
 
     @classmethod
     def prescribed(cls, base_in: float, base_up: float) -> Prism:
@@ -61,6 +67,15 @@ class Prism:
         """From a base vector in the examiner's frame (x to the examiner's right, y up)."""
         return cls(x * nasal_sign(eye), y)
 
+    @classmethod
+    def trusted(cls, base_in: float, base_up: float) -> Prism:
+        """A prism from components that are finite floats already (sums and products of
+        validated values): built without checking them again; no negative zero."""
+        prism = _new(cls)
+        _set(prism, "base_in", base_in + 0.0)
+        _set(prism, "base_up", base_up + 0.0)
+        return prism
+
     def examiner_frame(self, eye: Eye) -> tuple[float, float]:
         """The base vector (x to the examiner's right, y up) for ``eye``."""
         return (self.base_in * nasal_sign(eye), self.base_up)
@@ -79,13 +94,13 @@ class Prism:
         return 0.0 if angle >= 359.9999999 else angle
 
     def __add__(self, other: Prism) -> Prism:
-        return Prism(self.base_in + other.base_in, self.base_up + other.base_up)
+        return Prism.trusted(self.base_in + other.base_in, self.base_up + other.base_up)
 
     def __sub__(self, other: Prism) -> Prism:
-        return Prism(self.base_in - other.base_in, self.base_up - other.base_up)
+        return Prism.trusted(self.base_in - other.base_in, self.base_up - other.base_up)
 
     def __neg__(self) -> Prism:
-        return Prism(-self.base_in, -self.base_up)
+        return Prism.trusted(-self.base_in, -self.base_up)
 
     def scaled(self, factor: float) -> Prism:
         return Prism(self.base_in * factor, self.base_up * factor)
@@ -106,14 +121,31 @@ class Prism:
         return f"{self.amount:.2f} at {self.direction_360(eye):.0f}°"
 
     def as_dict(self, eye: Eye) -> dict[str, float | str]:
+        """Components, amount, direction and words (a new dict each call)."""
+        base_in, base_up = self.base_in, self.base_up
+        if not base_in and not base_up:
+            return dict(_NO_PRISM_DICT)  # the most usual part: the same every time
+        amount = math.hypot(base_in, base_up)
+        direction = self.direction_360(eye)
         return {
-            "base_in": self.base_in,
-            "base_up": self.base_up,
-            "amount": self.amount,
-            "direction_360": self.direction_360(eye),
+            "base_in": base_in,
+            "base_up": base_up,
+            "amount": amount,
+            "direction_360": direction,
             "in_words": self.in_words(),
-            "in_360_words": self.in_360_words(eye),
+            "in_360_words": (f"{amount:.2f} at {direction:.0f}°" if amount >= _WORDS_EPSILON
+                             else "no prism"),
         }
+
+
+_new = object.__new__
+_set = object.__setattr__
+
+
+_NO_PRISM_DICT: dict[str, float | str] = {
+    "base_in": 0.0, "base_up": 0.0, "amount": 0.0, "direction_360": 0.0,
+    "in_words": "no prism", "in_360_words": "no prism"}
+"""``Prism().as_dict(eye)``, the same for either eye."""
 
 
 def combine(prisms: Iterable[Prism]) -> Prism:

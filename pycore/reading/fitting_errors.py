@@ -73,12 +73,13 @@ def sensitivity(case: Case, geometry: ReadingGeometry, threshold: float) -> dict
     """The table of errors and the warnings it gives rise to."""
     samplers = {eye: LensSampler(case.lens(eye), eye) for eye in EYES}
     places = {"distance": 0.0, "near": geometry.reading_drop_mm}
+    coords = {(eye, drop): geometry.coords(eye, drop) for eye in EYES for drop in places.values()}
 
     def net(drop: float, moved: tuple[Eye, ...], shift: tuple[float, float],
             error: float) -> tuple[float, float]:
         values = {}
         for eye in EYES:
-            in_mm, up_mm = geometry.coords(eye, drop)
+            in_mm, up_mm = coords[eye, drop]
             if eye in moved:
                 in_mm, up_mm = in_mm + shift[0] * error, up_mm + shift[1] * error
             values[eye] = samplers[eye].at(in_mm, up_mm)

@@ -73,6 +73,41 @@ class NetSampler:
                        right[1] - left[1] + self._extra_vertical,
                        right[0] + left[0] + self._extra_horizontal)
 
+    def row(self, drop_mm: float, laterals: list[float]) -> tuple[list[Any], ...]:
+        """``at`` for one drop and many lateral gazes, as columns: (vertical, induced
+        vertical, horizontal) and each eye's zone. The same numbers as ``at`` (the
+        same sums, in the same order), each eye's row at once (LensSampler's
+        ``unprescribed_row``), without a point or a value made per gaze."""
+        geometry = self.geometry
+        rows = []
+        for index, (eye, sampler) in enumerate(zip(EYES, (self._right, self._left),
+                                                   strict=True)):
+            if geometry.worn_as == "contact_lenses":
+                rows.append(sampler.unprescribed_row([0.0] * len(laterals), 0.0))
+                continue
+            inset = geometry.inset_at(eye, drop_mm)
+            sides = [-lateral for lateral in laterals] if eye == "right" else laterals
+            if geometry.worn_as == "reading_spectacles":
+                near, up = geometry.near_inset_mm[index], geometry.reading_drop_mm - drop_mm
+                rows.append(sampler.unprescribed_row([inset + side - near for side in sides], up))
+            else:
+                up = geometry.primary_up_mm[index] - drop_mm
+                rows.append(sampler.unprescribed_row([inset + side for side in sides], up))
+        rp, lp = self._right_prism, self._left_prism
+        extra_v = self._extra_vertical
+        vertical: list[float] = []
+        induced: list[float] = []
+        horizontal: list[float] = []
+        zones_r: list[str] = []
+        zones_l: list[str] = []
+        for right, left in zip(rows[0], rows[1], strict=True):
+            vertical.append((right[1] + rp.base_up) - (left[1] + lp.base_up))
+            induced.append(right[1] - left[1] + extra_v)
+            horizontal.append((right[0] + rp.base_in) + (left[0] + lp.base_in))
+            zones_r.append(right[2])
+            zones_l.append(left[2])
+        return vertical, induced, horizontal, zones_r, zones_l
+
 
 def prescribed_net(case: Case) -> NetPrism:
     """The net of the prism prescribed in the two lenses (prism dioptres)."""
@@ -110,14 +145,16 @@ def imbalance_map(sampler: NetSampler, depth_mm: float, half_width_mm: float,
     drops = _steps(0.0, depth_mm, step_mm)
     laterals = (_steps(-half_width_mm, half_width_mm, step_mm) if half_width_mm > 0
                 else [0.0])
-    vertical, induced, horizontal, zones_r, zones_l = [], [], [], [], []
+    vertical: list[list[Any]] = []
+    induced: list[list[Any]] = []
+    horizontal: list[list[Any]] = []
+    zones_r: list[list[Any]] = []
+    zones_l: list[list[Any]] = []
     for drop in drops:
-        cells = [sampler.at(drop, lateral) for lateral in laterals]
-        vertical.append([cell.vertical for cell in cells])
-        induced.append([cell.induced_vertical for cell in cells])
-        horizontal.append([cell.horizontal for cell in cells])
-        zones_r.append([cell.zones[0] for cell in cells])
-        zones_l.append([cell.zones[1] for cell in cells])
+        row = sampler.row(drop, laterals)
+        for grid, column in zip((vertical, induced, horizontal, zones_r, zones_l), row,
+                                strict=True):
+            grid.append(column)
     flat_v = [abs(v) for row in vertical for v in row]
     flat_h = [abs(h) for row in horizontal for h in row]
     return {

@@ -115,5 +115,9 @@ def _one_of(value: str, key: str, allowed: tuple[str, ...]) -> None:
 def options_of(case: Case) -> ReadingZoneOptions:
     """The case's reading-zone settings (defaults where it has no section)."""
     found = case.extras.get(SECTION)
-    return found if isinstance(found, ReadingZoneOptions) else ReadingZoneOptions()
+    return found if isinstance(found, ReadingZoneOptions) else _DEFAULTS
+
+
+_DEFAULTS = ReadingZoneOptions()
+"""The settings of a case without the section (immutable, so made once)."""
 

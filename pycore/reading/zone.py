@@ -97,12 +97,12 @@ def image_jumps(case: Case) -> dict[str, Any]:
         jump = lens.segment.image_jump(lens.add)
         amounts[eye] = jump
         way = "base down" if jump > 0 else ("base up" if jump < 0 else "none")
-        jumps[eye] = {"amount": abs(jump), "base_up": -jump, "at_up_mm": lens.segment.top_mm,
+        jumps[eye] = {"amount": abs(jump), "base_up": -jump + 0.0, "at_up_mm": lens.segment.top_mm,
                       "in_words": f"{fixed(abs(jump))} {way}" if jump else "no image jump"}
     step = None
     if len(amounts) == 2 and case.right.segment is not None and case.left.segment is not None \
             and abs(case.right.segment.top_mm - case.left.segment.top_mm) < 1e-9:
-        step = -(amounts["right"] - amounts["left"])
+        step = -(amounts["right"] - amounts["left"]) + 0.0
     jumps["vertical_step_at_tops"] = step
     return jumps
 

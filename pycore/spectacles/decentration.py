@@ -42,7 +42,7 @@ class Decentration:
         return ", ".join(parts) if parts else "no decentration"
 
     def as_dict(self) -> dict[str, float | str]:
-        return {"in_mm": self.in_mm, "up_mm": self.up_mm, "total_mm": self.total_mm,
+        return {"in_mm": self.in_mm + 0.0, "up_mm": self.up_mm + 0.0, "total_mm": self.total_mm,
                 "in_words": self.in_words()}
 
 

@@ -25,8 +25,8 @@ class LensPoint:
     def __post_init__(self) -> None:
         in_range(self.in_mm, "in_mm", -LENS_REACH_MM, LENS_REACH_MM, "mm")
         in_range(self.up_mm, "up_mm", -LENS_REACH_MM, LENS_REACH_MM, "mm")
-        object.__setattr__(self, "in_mm", float(self.in_mm))
-        object.__setattr__(self, "up_mm", float(self.up_mm))
+        object.__setattr__(self, "in_mm", float(self.in_mm) + 0.0)
+        object.__setattr__(self, "up_mm", float(self.up_mm) + 0.0)
 
     def examiner_frame_cm(self, eye: Eye) -> tuple[float, float]:
         """The point in centimetres, x to the examiner's right, y up (Prentice's units)."""

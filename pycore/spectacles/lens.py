@@ -21,6 +21,7 @@ from pycore.spectacles.segments import SegmentOutline
 from pycore.spectacles.segments import image_jump as _image_jump
 from pycore.validation import in_range, positive
 
+_NO_PRISM = Prism()
 ADD_LIMIT_D = 6.0
 SLAB_OFF_LIMIT = 10.0
 CENTRE_MOVE_IN_MM = (-10.0, 10.0)
@@ -146,21 +147,26 @@ class Lens:
     def prism_at(self, point: LensPoint, eye: Eye) -> PrismAtPoint:
         """The prism before ``eye`` when it looks through ``point`` of this lens."""
         induced = induced_prism(self.power, point, eye, centre_mm=self.centre_mm)
-        from_add = Prism()
+        from_add = _NO_PRISM
         zone = "distance"
         if self.segment is not None and self.add and self.segment.covers(point):
             zone = "segment"
             from_add = induced_prism(PowerMatrix.spherical(self.add), point, eye,
                                      centre_mm=self.segment.optical_centre_mm)
-        from_thinning = Prism()
+        from_thinning = _NO_PRISM
         if self.progressive is not None and self.add:
             zone = self.progressive.zone(point.up_mm)
             from_add = self.progressive.add_prism(point, self.add)
             from_thinning = self.progressive.thinning
-        from_slab = Prism()
+        from_slab = _NO_PRISM
         if self.slab_off is not None and self.slab_off.covers(point):
-            from_slab = Prism(0.0, self.slab_off.base_up)
-        total = self.prism + induced + from_add + from_slab + from_thinning
+            from_slab = Prism.trusted(0.0, self.slab_off.base_up)
+        prism = self.prism
+        total = Prism.trusted(
+            prism.base_in + induced.base_in + from_add.base_in + from_slab.base_in
+            + from_thinning.base_in,
+            prism.base_up + induced.base_up + from_add.base_up + from_slab.base_up
+            + from_thinning.base_up)
         return PrismAtPoint(total, self.prism, induced, from_add, from_slab, zone,
                             from_thinning)
 

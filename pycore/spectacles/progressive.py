@@ -138,11 +138,19 @@ class Progressive:
         """``add_prism`` as plain (base_in, base_up) numbers, for sampling many points."""
         if up_mm >= 0.0:
             return (0.0, 0.0)
+        power, corridor_in, base_up = self.add_prism_at_height(up_mm, add)
+        across_cm = (in_mm - corridor_in) / 10.0
+        return (-power * across_cm, base_up)
+
+    def add_prism_at_height(self, up_mm: float, add: float) -> tuple[float, float, float]:
+        """What the add's prism at a height below the PRP (``up_mm`` < 0) is made of: the
+        add power found there, the corridor line's place (mm, nasal +) and the base-up
+        prism, the same all across. Across the lens the base-in prism is linear:
+        -power x (in_mm - corridor line) / 10 (Prentice's rule, cm)."""
         corridor, depth = self.corridor_mm, -up_mm
         if depth <= corridor:
             vertical_mm = corridor * _ease_integral(depth / corridor)
         else:
             vertical_mm = corridor * _ease_integral(1.0) + (depth - corridor)
         power = add * self.add_fraction(up_mm)
-        across_cm = (in_mm - self.corridor_in_mm(up_mm)) / 10.0
-        return (-power * across_cm, add * vertical_mm / 10.0)
+        return power, self.corridor_in_mm(up_mm), add * vertical_mm / 10.0

@@ -54,3 +54,60 @@ class LensSampler:
         if lens.slab_off is not None and up_mm <= lens.slab_off.line_mm:
             base_up += lens.slab_off.base_up
         return base_in, base_up, zone
+
+    def unprescribed_row(self, ins_mm: list[float],
+                         up_mm: float) -> list[tuple[float, float, str]]:
+        """``unprescribed_at`` for many points at one height: the same numbers (the same
+        sums in the same order), with what is the same all along the row (the vertical
+        terms, the segment's or the add's prism at that height, the slab) worked out once:
+        within one zone the prism is linear across the row (Prentice's rule)."""
+        lens, sign, xx, xy, yy = self._lens, self._sign, self._xx, self._xy, self._yy
+        centre = self._centre_in
+        y = (up_mm - self._centre_up) / 10.0
+        xy_y, yy_y = xy * y, yy * y
+        thinning = self._thinning
+        slab = lens.slab_off.base_up if (lens.slab_off is not None
+                                         and up_mm <= lens.slab_off.line_mm) else None
+        segment, add = lens.segment, lens.add
+        progressive = lens.progressive if add else None
+        found = []
+        if segment is not None and add and up_mm <= segment.top_mm:
+            outline, top, centre_in = segment.outline, segment.top_mm, segment.optical_centre_in_mm
+            centre_up = segment.optical_centre_mm[1]
+            segment_up = add * (up_mm - centre_up) / 10.0
+            for in_mm in ins_mm:
+                x = sign * (in_mm - centre) / 10.0
+                base_in = -sign * (xx * x + xy_y)
+                base_up = -thinning - (xy * x + yy_y)
+                zone = "distance"
+                if outline is None or outline.contains(in_mm - centre_in, top - up_mm):
+                    zone = "segment"
+                    base_in -= add * (in_mm - centre_in) / 10.0
+                    base_up -= segment_up
+                if slab is not None:
+                    base_up += slab
+                found.append((base_in, base_up, zone))
+            return found
+        if progressive is not None and (segment is None or not add):
+            zone = progressive.zone(up_mm)
+            below = up_mm < 0.0
+            power, corridor_in, add_up = (progressive.add_prism_at_height(up_mm, add)
+                                          if below else (0.0, 0.0, 0.0))
+            for in_mm in ins_mm:
+                x = sign * (in_mm - centre) / 10.0
+                base_in = -sign * (xx * x + xy_y)
+                base_up = -thinning - (xy * x + yy_y)
+                base_in += -power * ((in_mm - corridor_in) / 10.0) if below else 0.0
+                base_up += add_up
+                if slab is not None:
+                    base_up += slab
+                found.append((base_in, base_up, zone))
+            return found
+        for in_mm in ins_mm:
+            x = sign * (in_mm - centre) / 10.0
+            base_in = -sign * (xx * x + xy_y)
+            base_up = -thinning - (xy * x + yy_y)
+            if slab is not None:
+                base_up += slab
+            found.append((base_in, base_up, "distance"))
+        return found

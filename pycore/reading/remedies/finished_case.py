@@ -13,7 +13,6 @@ measured from the original's prescribed prism too.
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -67,10 +66,21 @@ class Figures:
 
 
 def copy_document(case: Case) -> dict[str, Any]:
-    # A JSON round trip: the document came from JSON, and this is several times
-    # faster than copy.deepcopy for such plain data.
-    copied: dict[str, Any] = json.loads(json.dumps(case.document))
+    """A copy of the case's document to edit (plain JSON data; a -0.0 becomes 0.0)."""
+    copied: dict[str, Any] = _plain_copy(case.document)
     return copied
+
+
+def _plain_copy(data: Any) -> Any:
+    """JSON-ready ``data`` copied (dicts and lists anew, a float without negative zero);
+    faster than copy.deepcopy or a JSON round trip for a case's few dozen values."""
+    if isinstance(data, dict):
+        return {key: _plain_copy(value) for key, value in data.items()}
+    if isinstance(data, list):
+        return [_plain_copy(value) for value in data]
+    if data.__class__ is float:
+        return data + 0.0
+    return data
 
 
 def eye_document(document: dict[str, Any], eye: Eye) -> dict[str, Any]:
@@ -249,8 +259,11 @@ def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
         remedy.applied, remedy.figures = document, closed_form
         return remedy
     try:
-        case = finished(document)
-        figures = Figures.of(case, baseline.figures.prescribed)
+        if document == baseline.case.document:
+            # Nothing changed: the finished case is the case itself, evaluated already.
+            figures = baseline.figures
+        else:
+            figures = Figures.of(finished(document), baseline.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:

@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 from pycore.optics.eyes import EYES, Eye, other
@@ -186,7 +187,7 @@ class MadeSegment:
 
     @property
     def outline(self) -> SegmentOutline:
-        return SegmentOutline(self.shape, self.size_mm)  # type: ignore[arg-type]
+        return _made_outline(self.shape, self.size_mm)
 
     @property
     def centre_below_top_mm(self) -> float:
@@ -207,10 +208,17 @@ class MadeSegment:
         return found
 
 
-def made_segments() -> list[MadeSegment]:
+@lru_cache(maxsize=32)
+def _made_outline(shape: str, size_mm: float | None) -> SegmentOutline:
+    """The outline of a made segment (a few, each checked once)."""
+    return SegmentOutline(shape, size_mm)  # type: ignore[arg-type]
+
+
+@lru_cache(maxsize=1)
+def made_segments() -> tuple[MadeSegment, ...]:
     """Every segment the remedy chooses from (pycore.spectacles.segments.MADE_SEGMENTS)."""
-    return [MadeSegment(shape, size) for shape, sizes in MADE_SEGMENTS.items()
-            for size in sizes]
+    return tuple(MadeSegment(shape, size) for shape, sizes in MADE_SEGMENTS.items()
+                 for size in sizes)
 
 
 def _current(lens: Lens) -> MadeSegment | None:
@@ -262,20 +270,26 @@ def dissimilar_segments(base: Baseline) -> Remedy:
         per_eye = -lenses[eye].add * move / 10.0
         return per_eye if eye == "right" else -per_eye
 
+    def jump(eye: Eye, made: MadeSegment | None) -> float:
+        """The image jump (amount) at ``eye``'s segment top with ``made`` (0 unchanged)."""
+        if made is None:
+            return 0.0
+        return abs(image_jump(lenses[eye].add, made.centre_below_top_mm))
+
     current = {eye: _current(lenses[eye]) for eye in EYES}
-    choices = {eye: [None, *[m for m in made_segments() if m != current[eye] and fits(eye, m)]]
+    # Each choice with its change of the net and its image jump, worked out once.
+    choices = {eye: [(made, change(eye, made), jump(eye, made)) for made in
+                     (None, *[m for m in made_segments() if m != current[eye] and fits(eye, m)])]
                for eye in EYES}
     best: tuple[Any, ...] | None = None
-    for right in choices["right"]:
-        for left in choices["left"]:
+    near = base.near
+    for right, right_change, right_jump in choices["right"]:
+        for left, left_change, left_jump in choices["left"]:
             if right is None and left is None:
                 continue
-            residual = base.near + change("right", right) + change("left", left)
+            residual = near + right_change + left_change
             changed = int(right is not None) + int(left is not None)
-            pair: dict[Eye, MadeSegment | None] = {"right": right, "left": left}
-            jumps = sum(abs(image_jump(lenses[e].add, made.centre_below_top_mm))
-                        for e in EYES if (made := pair[e]) is not None)
-            key = (half_up(abs(residual), 0.001), changed, jumps)
+            key = (half_up(abs(residual), 0.001), changed, right_jump + left_jump)
             if best is None or key < best[0]:
                 best = (key, right, left, residual)
     remedy.details = {
