@@ -3,6 +3,8 @@
 ``evaluate(case, sections)`` computes the result sections in one visible order:
 
 1. ``points``: the prism before each eye and the net at every point of gaze;
+   ``point_nets``: only each point's name and net (key ``point_nets``), for a screen
+   that shows the nets but not each eye's parts;
 2. ``eyes``: each lens as ordered (powers, transposed form, prism, decentration);
 3. ``fitting``: the distance and near centration;
 4. ``frame``: frame PD, decentration and the smallest blank;
@@ -16,8 +18,8 @@
 7. ``verification``: the verdicts, for a case with a verification section.
 
 ``cautions`` is always present. The result is plain JSON-ready data, numbers unrounded.
-By default every section is computed (the whole result); the page's live request asks
-for ``LIVE_SECTIONS`` and the folded sections as they are opened.
+By default the whole result is computed (``WHOLE_SECTIONS``); the page's live request
+asks for ``LIVE_SECTIONS`` and the folded sections as they are opened.
 """
 
 from __future__ import annotations
@@ -45,20 +47,27 @@ from pycore.spectacles.gaze import GazePoint
 from pycore.spectacles.heights import describe_heights, reference_point_height_mm
 from pycore.spectacles.lens import Lens
 
-SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "reading_map",
+SECTIONS = ("points", "point_nets", "eyes", "fitting", "frame", "reading_zone", "reading_map",
             "sensitivity", "remedies", "remedies_full", "verification")
 """Every result section, in the order ``evaluate`` computes them."""
 
-LIVE_SECTIONS = ("points", "eyes", "fitting", "frame", "reading_zone", "remedies")
-"""What the answer band shows after each keystroke (docs/worker-protocol.md)."""
+WHOLE_SECTIONS = tuple(name for name in SECTIONS if name != "point_nets")
+"""The whole result (the command line's, Print's): every section but ``point_nets``,
+whose figures ``points`` already holds."""
+
+LIVE_SECTIONS = ("point_nets", "eyes", "reading_zone", "remedies")
+"""What the case screen shows after each keystroke with its sections folded: the answer
+band (the reading zone's figures, the suggested remedy, the points' nets when there is no
+reading zone) and the transposed form beside each prescription (docs/worker-protocol.md).
+The page adds the folded sections' own as they are opened."""
 
 _ZONE_PARTS = {"reading_zone": "band", "reading_map": "map", "sensitivity": "sensitivity"}
 
 BASIC_SECTIONS = ("points", "eyes", "fitting", "frame")
 """The sections that need no lens-design analysis (fast enough for every keystroke)."""
 
-__all__ = ["BASIC_SECTIONS", "CAUTIONS", "LIVE_SECTIONS", "SECTIONS", "evaluate", "evaluate_point",
-           "resolve_points"]
+__all__ = ["BASIC_SECTIONS", "CAUTIONS", "LIVE_SECTIONS", "SECTIONS", "WHOLE_SECTIONS", "evaluate",
+           "evaluate_point", "point_net", "resolve_points"]
 
 
 def near_horizontal_power(case: Case, eye: Eye) -> float:
@@ -127,6 +136,19 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
     result["net"]["induced_horizontal_base_in"] = (net.horizontal_base_in
                                                    - prescribed.horizontal_base_in)
     return result
+
+
+def point_net(case: Case, point: GazePoint) -> dict[str, Any]:
+    """``evaluate_point``'s name and net alone (the same numbers), for ``point_nets``."""
+    parts = {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
+    net = NetPrism.between(parts["right"].total, parts["left"].total)
+    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
+    found = net.as_dict()
+    found["induced_vertical_base_up_right"] = (net.vertical_base_up_right
+                                               - prescribed.vertical_base_up_right)
+    found["induced_horizontal_base_in"] = (net.horizontal_base_in
+                                           - prescribed.horizontal_base_in)
+    return {"name": point.name, "net": found}
 
 
 def describe_lens(lens: Lens, eye: Eye) -> dict[str, Any]:
@@ -219,7 +241,7 @@ def describe_frame(case: Case, frame: Frame | None) -> dict[str, Any] | None:
     return result
 
 
-def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
+def evaluate(case: Case, sections: Iterable[str] = WHOLE_SECTIONS) -> dict[str, Any]:
     """The result for a case: the named ``sections`` (see SECTIONS), in pipeline order.
 
     A section the case cannot have (``fitting`` without a fitting, ``verification``
@@ -233,6 +255,8 @@ def evaluate(case: Case, sections: Iterable[str] = SECTIONS) -> dict[str, Any]:
     result: dict[str, Any] = {}
     if "points" in wanted:
         result["points"] = [evaluate_point(case, point) for point in resolve_points(case)]
+    if "point_nets" in wanted:
+        result["point_nets"] = [point_net(case, point) for point in resolve_points(case)]
     if "eyes" in wanted:
         result["eyes"] = {eye: describe_lens(case.lens(eye), eye) for eye in EYES}
     if "fitting" in wanted:

@@ -82,10 +82,10 @@ def test_the_live_answer_is_the_whole_answer_in_part(document: dict[str, Any]) -
     live = request("evaluate_live", {"case": document})
     assert live["ok"]
     result = live["result"]
-    assert set(result) == {"points", "eyes", "fitting", "frame", "cautions", "reading_zone",
-                           "remedies"}
-    for key in ("points", "eyes", "fitting", "frame"):
-        assert result[key] == json.loads(json.dumps(whole[key]))
+    assert set(result) == {"point_nets", "eyes", "cautions", "reading_zone", "remedies"}
+    assert result["eyes"] == json.loads(json.dumps(whole["eyes"]))
+    assert result["point_nets"] == json.loads(json.dumps(
+        [{"name": p["name"], "net": p["net"]} for p in whole["points"]]))
     zone, full_zone = result["reading_zone"], whole["reading_zone"]
     for key in BAND_KEYS:
         assert zone[key] == json.loads(json.dumps(full_zone[key])), key
@@ -108,17 +108,24 @@ def test_the_live_answer_is_the_whole_answer_in_part(document: dict[str, Any]) -
 
 
 def test_folded_sections_come_when_asked_for() -> None:
-    asked = [*LIVE_SECTIONS, "reading_map", "sensitivity", "remedies_full"]
+    asked = [*LIVE_SECTIONS, "points", "fitting", "frame", "reading_map", "sensitivity",
+             "remedies_full"]
     result = request("evaluate_live", {"case": BIFOCAL_ANISOMETROPE, "sections": asked})
     assert result["ok"]
     whole = json.loads(json.dumps(evaluate(read_case(BIFOCAL_ANISOMETROPE))))
+    nets = result["result"].pop("point_nets")
     assert result["result"] == whole  # every section but verification (there is none)
     assert list(result["result"]["reading_zone"]) == list(whole["reading_zone"])
+    # The live request's nets are the whole result's, point by point.
+    assert nets == [{"name": p["name"], "net": p["net"]} for p in whole["points"]]
 
 
 def test_the_whole_result_has_every_section_by_default() -> None:
-    assert evaluate(read_case(BIFOCAL_ANISOMETROPE)) == evaluate(read_case(
-        BIFOCAL_ANISOMETROPE), SECTIONS)
+    whole = evaluate(read_case(BIFOCAL_ANISOMETROPE))
+    every = evaluate(read_case(BIFOCAL_ANISOMETROPE), SECTIONS)
+    assert every.pop("point_nets") == [{"name": p["name"], "net": p["net"]}
+                                       for p in every["points"]]
+    assert whole == every
 
 
 def test_an_opened_remedy_is_its_finished_case() -> None:

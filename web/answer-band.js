@@ -77,18 +77,21 @@ function remedyLine(result, over, onApply) {
     apply);
 }
 
-// No reading zone (no fitting to find one): the largest vertical imbalance over the points.
+// No reading zone (no fitting to find one): the largest vertical imbalance over the points
+// (their nets: the live request's point_nets, or the whole result's points).
 function atPoints(result) {
+  const list = result.points ? "points" : "point_nets";
+  const points = result[list];
   let worst = 0;
-  result.points.forEach((p, i) => {
-    if (Math.abs(p.net.vertical_base_up_right) > Math.abs(result.points[worst].net.vertical_base_up_right)) worst = i;
+  points.forEach((p, i) => {
+    if (Math.abs(p.net.vertical_base_up_right) > Math.abs(points[worst].net.vertical_base_up_right)) worst = i;
   });
-  const key = inducedKey(result, `points.${worst}.net`);
+  const key = inducedKey(result, `${list}.${worst}.net`);
   return [el("p", { class: "band-headline" },
     el("span", { class: "band-number" }, fig(result, key, (v) => fixed(2)(Math.abs(v)), "fig band-figure"),
       el("span", { class: "band-unit", text: " Δ" })),
     el("span", { class: "band-words" }, el("span", { class: "band-base", text: baseWords(get(result, key)) }),
-      el("span", { class: "band-where" }, "largest vertical imbalance, at ", fig(result, `points.${worst}.name`))))];
+      el("span", { class: "band-where" }, "largest vertical imbalance, at ", fig(result, `${list}.${worst}.name`))))];
 }
 
 export function renderBand(node, result, { onApply }) {

@@ -12,8 +12,11 @@ import { setUpZone } from "./zone.js";
 // Short enough that each keystroke visibly changes the band (issue 12: <= 60 ms).
 export const DEBOUNCE_MS = 50;
 const MAX_MARKED = 6; // bad fields marked at once
-const LIVE_SECTIONS = ["points", "eyes", "fitting", "frame", "reading_zone", "remedies"];
-const ON_OPEN = { "sec-map": ["reading_map"], "sec-remedies": ["remedies_full"], "sec-errors": ["sensitivity"] };
+// What each keystroke asks for (the band, the transposed forms) and what each folded
+// section adds once opened (pycore.evaluate, docs/worker-protocol.md).
+const LIVE_SECTIONS = ["point_nets", "eyes", "reading_zone", "remedies"];
+const ON_OPEN = { "sec-points": ["points", "fitting", "frame"], "sec-map": ["reading_map", "frame"],
+  "sec-remedies": ["remedies_full"], "sec-errors": ["sensitivity"] };
 const $ = (selector) => document.querySelector(selector);
 
 // host: {messenger, say(text), onFirstResult()}
@@ -130,8 +133,9 @@ export function setUpCaseScreen(host) {
   }
   function sectionShown(id) {
     const result = lastGood && lastGood.result;
+    if (id === "sec-points") return Boolean(result && result.points);
     if (!result || !result.reading_zone) return true; // nothing to add to
-    if (id === "sec-map") return Boolean(result.reading_zone.map);
+    if (id === "sec-map") return Boolean(result.reading_zone.map && result.frame !== undefined);
     if (id === "sec-errors") return Boolean(result.reading_zone.sensitivity);
     if (id === "sec-remedies") return !result.remedies || result.remedies.options.every((o) => o);
     return true;
@@ -232,7 +236,8 @@ export function setUpCaseScreen(host) {
     $("#print-summary").dataset.stale = "false";
     results.dataset.status = "current";
     results.dataset.seq = String(Number(results.dataset.seq || 0) + 1);
-    statusLine.textContent = `Up to date · ${result.points.length} point${result.points.length === 1 ? "" : "s"} of gaze`;
+    const count = (result.points || result.point_nets).length;
+    statusLine.textContent = `Up to date · ${count} point${count === 1 ? "" : "s"} of gaze`;
   }
 
   // The input a refusal belongs to: the exact path, else the nearest enclosing one.

@@ -214,7 +214,7 @@ function genericBlock(result, key) {
 }
 
 // reading_zone and remedies are drawn by zone.js.
-const KNOWN = new Set(["points", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
+const KNOWN = new Set(["points", "point_nets", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
 
 // The folded sections of the results, in their fixed order.
 export const SECTIONS = [
@@ -228,15 +228,20 @@ export const SECTIONS = [
 export function renderResult(container, result) {
   // Sections the user opened stay open across recomputes.
   const open = new Set([...container.querySelectorAll("details[open][data-remember]")].map((d) => d.dataset.remember));
-  const points = el("div", { class: "points" });
-  result.points.forEach((_, i) => points.append(pointCard(result, i)));
-  const lenses = el("section", { class: "derived", "aria-labelledby": "h-derived-lens" },
-    el("h3", { id: "h-derived-lens", text: "Lenses" }),
-    el("div", { class: "eyes-pair" }, lensBlock(result, "right"), lensBlock(result, "left")));
-  const more = Object.keys(result).filter((k) => !KNOWN.has(k) && result[k] !== null).map((k) => genericBlock(result, k));
   const sections = SECTIONS.map(([id, title]) => el("details", { class: "sec", id, "data-remember": id },
     el("summary", {}, el("h3", { class: "sec-title", text: title }))));
-  sections[0].append(points, el("div", { class: "derived-all" }, lenses, fittingBlock(result), frameBlock(result), ...more));
+  if (result.points) {
+    // The folded figures come when the section is opened (the page then asks for them).
+    const points = el("div", { class: "points" });
+    result.points.forEach((_, i) => points.append(pointCard(result, i)));
+    const lenses = el("section", { class: "derived", "aria-labelledby": "h-derived-lens" },
+      el("h3", { id: "h-derived-lens", text: "Lenses" }),
+      el("div", { class: "eyes-pair" }, lensBlock(result, "right"), lensBlock(result, "left")));
+    const more = Object.keys(result).filter((k) => !KNOWN.has(k) && result[k] !== null).map((k) => genericBlock(result, k));
+    sections[0].append(points, el("div", { class: "derived-all" }, lenses, fittingBlock(result), frameBlock(result), ...more));
+  } else {
+    sections[0].append(el("p", { class: "sec-pending", text: "Working out this section…" }));
+  }
   container.replaceChildren(...sections);
   for (const details of container.querySelectorAll("details[data-remember]")) {
     if (open.has(details.dataset.remember)) details.open = true;
