@@ -47,9 +47,12 @@ function downloadFailed(url, why) {
 }
 
 // Large downloads report how far they are ({event: "progress"}), at most ~5 times a second.
+// Not when a saved interpreter image was found: the files are already on this device, and
+// the runtime's own response (not a copy) lets the browser reuse its compiled WebAssembly.
+let countDownloads = true;
 function counted(url, response) {
   const total = Number(response.headers.get("Content-Length")) || 0;
-  if (!response.body || total < 200000 || typeof ReadableStream !== "function") return response;
+  if (!countDownloads || !response.body || total < 200000 || typeof ReadableStream !== "function") return response;
   let loaded = 0;
   let last = 0;
   const post = (force) => {
@@ -194,6 +197,7 @@ async function start(useImage = true) {
         "loaded. Check the connection and reload.");
     }), lock, image]);
   mark("fetched");
+  countDownloads = !saved;
   const options = {
     indexURL: here("./pyodide/"),
     lockFileContents: lockData,
@@ -235,6 +239,9 @@ async function start(useImage = true) {
     try {
       const cache = await images;
       if (!cache) return;
+      // The first result needed only the case pipeline; load every other action's
+      // modules now, so that the image holds them all.
+      pyodide.pyimport("pycore.interfaces.actions").preload();
       const bytes = pyodide.makeMemorySnapshot();
       const key = await imageKey;
       for (const old of await cache.keys()) if (old.url !== key) await cache.delete(old);
