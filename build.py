@@ -111,7 +111,8 @@ def _without_docstring(body: list[Any]) -> list[Any]:
 
 def strip_python(source: str) -> str:
     """The same module without what only a reader or a type checker uses: docstrings,
-    comments, and the annotations of function parameters and results.
+    comments, the annotations of function parameters and results, and three of each
+    four spaces of indentation.
 
     The rest of the syntax tree is kept exactly: parse, drop each docstring (a lone
     ``pass`` where it was the whole body) and each function's annotations, and write the
@@ -130,7 +131,18 @@ def strip_python(source: str) -> str:
             for arg in [*args.posonlyargs, *args.args, *args.kwonlyargs,
                         *(a for a in (args.vararg, args.kwarg) if a is not None)]:
                 arg.annotation = None
-    return ast.unparse(tree) + "\n"
+    return _one_space_indents(ast.unparse(tree)) + "\n"
+
+
+def _one_space_indents(source: str) -> str:
+    """Each indentation level as one space instead of four. ``ast.unparse`` writes every
+    string on one line (docstrings, its only triple-quoted strings, are gone), so
+    leading spaces are always indentation; the tests compare the syntax trees."""
+    lines = []
+    for line in source.split("\n"):
+        depth = len(line) - len(line.lstrip(" "))
+        lines.append(" " * (depth // 4) + line[depth:] if depth % 4 == 0 else line)
+    return "\n".join(lines)
 
 
 def web_core_files() -> dict[str, bytes]:
@@ -351,6 +363,17 @@ def esbuild(*args: str | Path) -> None:
         sys.exit("build.py: esbuild could not bundle or minify the app's files")
 
 
+def minified_script(source: str) -> str:
+    """A classic script minified by the pinned esbuild (its top-level names kept)."""
+    tool = ROOT / "node_modules" / ".bin" / "esbuild"
+    done = subprocess.run([str(tool), "--minify", "--loader=js", "--log-level=warning",
+                           "--legal-comments=none", "--target=es2020,chrome100,safari15"],
+                          cwd=ROOT, input=source, capture_output=True, text=True, check=False)
+    if done.returncode != 0:
+        sys.exit("build.py: esbuild could not minify sw.js: " + done.stderr.strip())
+    return done.stdout
+
+
 def bundle(root: Path) -> None:
     """The page's modules as one minified app.js (the pinned esbuild, package.json); the
     boot script and the worker minified as files of their own (the worker imports the
@@ -381,9 +404,17 @@ def write_service_worker(root: Path) -> tuple[str, int]:
                 "sha256-" + base64.b64encode(hashlib.sha256(p.read_bytes()).digest()).decode()]
                for p in files]
     version = sha256(json.dumps(entries).encode())[:12]
-    sw = (WEB / "sw.js").read_text()
-    sw = sw.replace("__VERSION__", version).replace("__PRECACHE__", json.dumps(entries))
-    (root / "sw.js").write_text(sw)
+    head: list[str] = []
+    rest: list[str] = []
+    for line in (WEB / "sw.js").read_text().splitlines(keepends=True):
+        (head if line.startswith(("const VERSION =", "const PRECACHE =")) else rest).append(line)
+    if len(head) != 2:
+        sys.exit("build.py: sw.js must declare VERSION and PRECACHE on lines of their own")
+    # The two filled-in lines stay as written (check() and the tests read them); the rest
+    # is minified (globals keep their names in a classic script).
+    listed = json.dumps(entries, separators=(",", ":"))
+    sw = "".join(head).replace("__VERSION__", version).replace("__PRECACHE__", listed)
+    (root / "sw.js").write_text(sw + minified_script("".join(rest)))
     info = {"version": version, "files": len(entries)}
     (root / "build-info.json").write_text(json.dumps(info) + "\n")
     return version, len(entries)
