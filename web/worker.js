@@ -47,12 +47,9 @@ function downloadFailed(url, why) {
 }
 
 // Large downloads report how far they are ({event: "progress"}), at most ~5 times a second.
-// Not when a saved interpreter image was found: the files are already on this device, and
-// the runtime's own response (not a copy) lets the browser reuse its compiled WebAssembly.
-let countDownloads = true;
 function counted(url, response) {
   const total = Number(response.headers.get("Content-Length")) || 0;
-  if (!countDownloads || !response.body || total < 200000 || typeof ReadableStream !== "function") return response;
+  if (!response.body || total < 200000 || typeof ReadableStream !== "function") return response;
   let loaded = 0;
   let last = 0;
   const post = (force) => {
@@ -197,7 +194,6 @@ async function start(useImage = true) {
         "loaded. Check the connection and reload.");
     }), lock, image]);
   mark("fetched");
-  countDownloads = !saved;
   const options = {
     indexURL: here("./pyodide/"),
     lockFileContents: lockData,
