@@ -353,32 +353,35 @@ SEPARATE_JS = ("boot.js", "worker.js")
 """Scripts that stay files of their own (sw.js is written by write_service_worker)."""
 
 
-def esbuild(*args: str | Path) -> None:
+def esbuild(*args: str | Path, source: str | None = None, cwd: Path = ROOT) -> str:
+    """Run the pinned esbuild (minifying) on files, or on ``source`` given on its standard
+    input (its imports found from ``cwd``); returns what it writes to standard output."""
     tool = ROOT / "node_modules" / ".bin" / "esbuild"
     if not tool.exists():
         sys.exit("build.py: esbuild is missing from node_modules: run npm ci")
     cmd = [str(tool), *map(str, args), "--minify", "--log-level=warning", "--charset=utf8",
            "--legal-comments=none", "--target=es2020,chrome100,safari15"]
-    if subprocess.run(cmd, cwd=ROOT, check=False).returncode != 0:
-        sys.exit("build.py: esbuild could not bundle or minify the app's files")
-
-
-def minified_script(source: str) -> str:
-    """A classic script minified by the pinned esbuild (its top-level names kept)."""
-    tool = ROOT / "node_modules" / ".bin" / "esbuild"
-    done = subprocess.run([str(tool), "--minify", "--loader=js", "--log-level=warning",
-                           "--legal-comments=none", "--target=es2020,chrome100,safari15"],
-                          cwd=ROOT, input=source, capture_output=True, text=True, check=False)
+    done = subprocess.run(cmd, cwd=cwd, input=source, capture_output=True, text=True,
+                          check=False)
     if done.returncode != 0:
-        sys.exit("build.py: esbuild could not minify sw.js: " + done.stderr.strip())
+        sys.exit("build.py: esbuild could not bundle or minify the app's files: "
+                 + done.stderr.strip())
     return done.stdout
 
 
+def minified_script(source: str) -> str:
+    """A classic script minified (its top-level names kept)."""
+    return esbuild("--loader=js", source=source)
+
+
 def bundle(root: Path) -> None:
-    """The page's modules as one minified app.js (the pinned esbuild, package.json); the
+    """The page's modules as one minified app.js (the pinned esbuild, package.json), which
+    also exports the Messenger class (the e2e tests try the shipped class on its own); the
     boot script and the worker minified as files of their own (the worker imports the
     runtime's loader at its own URL); the CSS files minified in place."""
-    esbuild(WEB / PAGE_ENTRY, "--bundle", "--format=esm", f"--outfile={root / 'app.js'}")
+    entry = f'import "./{PAGE_ENTRY}";\nexport {{ Messenger }} from "./messenger.js";\n'
+    esbuild("--bundle", "--format=esm", "--sourcefile=page-bundle.js",
+            f"--outfile={root / 'app.js'}", source=entry, cwd=WEB)
     esbuild(*(WEB / name for name in SEPARATE_JS), f"--outdir={root}")
     esbuild(*sorted(root.rglob("*.css")), f"--outdir={root}", f"--outbase={root}",
             "--allow-overwrite")
