@@ -7,7 +7,8 @@
                                       then every test (core, CLI, and the app in Chromium)
     python3 build.py --check          build, then verify dist/ against its own precache list
 
-Standard library only; the browser's wheel of the core is written here with ``zipfile``.
+Standard library only, but for the pinned esbuild (package.json) that bundles and minifies
+the page's JS and CSS; the browser's archive of the core is written here with ``tarfile``.
 """
 
 from __future__ import annotations
@@ -37,7 +38,6 @@ VENV = ROOT / ".venv"
 PYODIDE = ROOT / "node_modules" / "pyodide"
 CHROMIUM = Path("/usr/bin/chromium")
 RUNTIME = ["pyodide.mjs", "pyodide.asm.mjs", "pyodide.asm.wasm", "python_stdlib.zip"]
-WHEEL_NAME = "prism-desk"
 APP_NAME = "Prism Desk"
 THEME = "#12355b"
 ACCENT = "#f5c542"
@@ -87,10 +87,11 @@ def ensure_npm() -> None:
         sys.exit("build.py: npm ci failed")
 
 
-# ---------------------------------------------------------------- the wheel
+# ---------------------------------------------------------------- the core's archive
 WEB_LEFT_OUT = ("pycore/__main__.py", "pycore/interfaces/cli.py", "pycore/interfaces/commands/",
                 "pycore/py.typed")
 """What the browser never runs: the command line (the worker imports pycore.interfaces.bridge)."""
+CORE_NAME = "prism-desk"
 
 
 def core_sources() -> list[Path]:
@@ -99,79 +100,106 @@ def core_sources() -> list[Path]:
             and f.suffix in (".py", ".json", ".toml", ".typed")]
 
 
-def strip_python(source: str) -> str:
-    """The same module without docstrings and comments (the browser never shows them).
+def _without_docstring(body: list[Any]) -> list[Any]:
+    import ast
 
-    The syntax tree is kept exactly: parse, drop each docstring (a lone ``pass`` where it
-    was the whole body), and write the tree back out.
+    if (body and isinstance(body[0], ast.Expr) and isinstance(body[0].value, ast.Constant)
+            and isinstance(body[0].value.value, str)):
+        return body[1:] or [ast.Pass()]
+    return body
+
+
+def strip_python(source: str) -> str:
+    """The same module without what only a reader or a type checker uses: docstrings,
+    comments, the annotations of function parameters and results, and three of each
+    four spaces of indentation.
+
+    The rest of the syntax tree is kept exactly: parse, drop each docstring (a lone
+    ``pass`` where it was the whole body) and each function's annotations, and write the
+    tree back out. Class-level annotations stay (dataclasses read them), and so do
+    annotated assignments.
     """
     import ast
 
     tree = ast.parse(source)
     for node in ast.walk(tree):
         if isinstance(node, ast.Module | ast.ClassDef | ast.FunctionDef | ast.AsyncFunctionDef):
-            body = node.body
-            if (body and isinstance(body[0], ast.Expr) and isinstance(body[0].value, ast.Constant)
-                    and isinstance(body[0].value.value, str)):
-                node.body = body[1:] or [ast.Pass()]
-    return ast.unparse(tree) + "\n"
+            node.body = _without_docstring(node.body)
+        if isinstance(node, ast.FunctionDef | ast.AsyncFunctionDef):
+            node.returns = None
+            args = node.args
+            for arg in [*args.posonlyargs, *args.args, *args.kwonlyargs,
+                        *(a for a in (args.vararg, args.kwarg) if a is not None)]:
+                arg.annotation = None
+    return _one_space_indents(ast.unparse(tree)) + "\n"
 
 
-def web_wheel_files() -> dict[str, bytes]:
-    """Archive name -> bytes for the core as the browser runs it."""
+def _one_space_indents(source: str) -> str:
+    """Each indentation level as one space instead of four. ``ast.unparse`` writes every
+    string on one line (docstrings, its only triple-quoted strings, are gone), so
+    leading spaces are always indentation; the tests compare the syntax trees."""
+    lines = []
+    for line in source.split("\n"):
+        depth = len(line) - len(line.lstrip(" "))
+        lines.append(" " * (depth // 4) + line[depth:] if depth % 4 == 0 else line)
+    return "\n".join(lines)
+
+
+def web_core_files() -> dict[str, bytes]:
+    """Archive name -> bytes for the core as the browser runs it (data tables compacted)."""
     files: dict[str, bytes] = {}
     for path in core_sources():
         name = path.relative_to(ROOT).as_posix()
         if not name.startswith("pycore/") or name.startswith(WEB_LEFT_OUT):
             continue
         data = path.read_bytes()
-        files[name] = strip_python(data.decode()).encode() if path.suffix == ".py" else data
+        if path.suffix == ".py":
+            data = strip_python(data.decode()).encode()
+        elif path.suffix == ".json":
+            data = json.dumps(json.loads(data), ensure_ascii=False,
+                              separators=(",", ":")).encode()
+        files[name] = data
     return files
 
 
-def _record_hash(data: bytes) -> str:
-    return base64.urlsafe_b64encode(hashlib.sha256(data).digest()).decode().rstrip("=")
-
-
-def build_wheel() -> Path:
-    """The core as a wheel for the browser (pure Python, py3-none-any), written directly:
-    only what runs there, docstrings and comments left out. Cached by content."""
+def build_core_archive() -> Path:
+    """The core for the browser as one gzip-compressed tar (ustar), unpacked into
+    site-packages by the worker: one compressed stream over every module is about a
+    quarter smaller than a wheel, whose zip compresses each file on its own. Only what
+    runs there; the bytes depend on the content only (fixed times, owners and order).
+    Cached by content."""
+    import gzip
+    import io
+    import tarfile
     import tomllib
-    import zipfile
 
     version = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["version"]
-    files = web_wheel_files()
+    files = web_core_files()
     key = sha256(b"".join(n.encode() + b"\0" + d for n, d in sorted(files.items())))[:16]
-    wheel = CACHE / f"wheel-{key}" / f"prism_desk-{version}-py3-none-any.whl"
-    if wheel.exists():
-        return wheel
-    info = f"prism_desk-{version}.dist-info"
-    files[f"{info}/METADATA"] = (f"Metadata-Version: 2.1\nName: {WHEEL_NAME}\n"
-                                 f"Version: {version}\n").encode()
-    files[f"{info}/WHEEL"] = (b"Wheel-Version: 1.0\nGenerator: build.py\n"
-                              b"Root-Is-Purelib: true\nTag: py3-none-any\n")
-    record = [f"{name},sha256={_record_hash(data)},{len(data)}"
-              for name, data in sorted(files.items())]
-    files[f"{info}/RECORD"] = ("\n".join([*record, f"{info}/RECORD,,"]) + "\n").encode()
-    wheel.parent.mkdir(parents=True, exist_ok=True)
-    part = wheel.with_suffix(f".{os.getpid()}.part")
-    with zipfile.ZipFile(part, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as archive:
+    archive = CACHE / f"core-{key}" / f"prism_desk-{version}.tar.gz"
+    if archive.exists():
+        return archive
+    tar = io.BytesIO()
+    with tarfile.open(fileobj=tar, mode="w", format=tarfile.USTAR_FORMAT) as out:
         for name, data in sorted(files.items()):
-            entry = zipfile.ZipInfo(name, date_time=(2020, 1, 1, 0, 0, 0))
-            entry.compress_type = zipfile.ZIP_DEFLATED
-            entry.external_attr = 0o644 << 16
-            archive.writestr(entry, data)
-    part.replace(wheel)   # several builds may overlap: the last identical file wins
-    return wheel
+            entry = tarfile.TarInfo(name)
+            entry.size, entry.mode, entry.mtime = len(data), 0o644, 0
+            out.addfile(entry, io.BytesIO(data))
+    archive.parent.mkdir(parents=True, exist_ok=True)
+    part = archive.with_suffix(f".{os.getpid()}.part")
+    part.write_bytes(gzip.compress(tar.getvalue(), compresslevel=9, mtime=0))
+    part.replace(archive)   # several builds may overlap: the last identical file wins
+    return archive
 
 
-def lock_file(wheel: Path) -> dict[str, Any]:
-    """A lock file listing only this app's own wheel (no CDN, nothing else to fetch)."""
+def lock_file(archive: Path) -> dict[str, Any]:
+    """A lock file listing only this app's own core (no CDN, nothing else to fetch); the
+    worker takes the archive's name and sha256 from it."""
     upstream = json.loads((PYODIDE / "pyodide-lock.json").read_text())
-    version = wheel.name.split("-")[1]
-    return {"info": upstream["info"], "packages": {WHEEL_NAME: {
-        "name": WHEEL_NAME, "version": version, "file_name": wheel.name,
-        "install_dir": "site", "sha256": sha256(wheel.read_bytes()),
+    version = archive.name.removesuffix(".tar.gz").split("-")[1]
+    return {"info": upstream["info"], "packages": {CORE_NAME: {
+        "name": CORE_NAME, "version": version, "file_name": archive.name,
+        "install_dir": "site", "sha256": sha256(archive.read_bytes()),
         "package_type": "package", "imports": ["pycore"], "depends": [],
         "unvendored_tests": False}}}
 
@@ -188,14 +216,23 @@ RAY_HALF_WIDTH = 0.022
 
 
 def png(width: int, pixels: bytearray) -> bytes:
-    stride = width * 4
-    rows = b"".join(b"\0" + bytes(pixels[y * stride:(y + 1) * stride]) for y in range(width))
+    """An opaque PNG from RGBA pixels: indexed colour (type 3) when the image has at
+    most 256 colours, as the anti-aliased mark has, else RGB (type 2)."""
+    rgb = [bytes(pixels[i:i + 3]) for i in range(0, len(pixels), 4)]
+    palette = sorted(set(rgb))
+    if len(palette) <= 256:
+        index = {colour: i for i, colour in enumerate(palette)}
+        data, stride, kind = bytes(index[c] for c in rgb), width, 3
+    else:
+        data, stride, kind = b"".join(rgb), width * 3, 2
+    rows = b"".join(b"\0" + data[y * stride:(y + 1) * stride] for y in range(width))
 
-    def chunk(kind: bytes, data: bytes) -> bytes:
-        crc = struct.pack(">I", zlib.crc32(kind + data))
-        return struct.pack(">I", len(data)) + kind + data + crc
-    header = struct.pack(">IIBBBBB", width, width, 8, 6, 0, 0, 0)
-    return (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", header)
+    def chunk(name: bytes, body: bytes) -> bytes:
+        crc = struct.pack(">I", zlib.crc32(name + body))
+        return struct.pack(">I", len(body)) + name + body + crc
+    header = struct.pack(">IIBBBBB", width, width, 8, kind, 0, 0, 0)
+    colours = chunk(b"PLTE", b"".join(palette)) if kind == 3 else b""
+    return (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", header) + colours
             + chunk(b"IDAT", zlib.compress(rows, 9)) + chunk(b"IEND", b""))
 
 
@@ -252,7 +289,7 @@ def icon_svg() -> str:
 
 def write_icons(dest: Path) -> None:
     """PNG icons are slow-ish to draw in pure Python, so they are cached by design."""
-    design = sha256(repr((PRISM, RAYS, RAY_HALF_WIDTH, THEME, ACCENT)).encode())[:12]
+    design = sha256(repr((PRISM, RAYS, RAY_HALF_WIDTH, THEME, ACCENT, "indexed")).encode())[:12]
     dest.mkdir(parents=True, exist_ok=True)
     for size in (192, 512):
         cached = CACHE / f"icon-{size}-{design}.png"
@@ -279,22 +316,22 @@ def manifest() -> dict[str, Any]:
 # ---------------------------------------------------------------- the build
 def build() -> None:
     ensure_npm()
-    wheel = build_wheel()
+    archive = build_core_archive()
     CACHE.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix="dist-", dir=CACHE.parent))   # swapped in whole at the end
     (tmp / "pyodide").mkdir()
-    (tmp / "wheels").mkdir()
+    (tmp / "core").mkdir()
     for name in RUNTIME:
         shutil.copyfile(PYODIDE / name, tmp / "pyodide" / name)
-    shutil.copyfile(wheel, tmp / "wheels" / wheel.name)
-    (tmp / "pyodide-lock.json").write_text(json.dumps(lock_file(wheel), indent=1) + "\n")
+    shutil.copyfile(archive, tmp / "core" / archive.name)
+    (tmp / "pyodide-lock.json").write_text(json.dumps(lock_file(archive), indent=1) + "\n")
     for src in sorted(WEB.rglob("*")):
-        if src.is_file() and src.name != "sw.js":
+        if src.is_file() and src.suffix != ".js":
             (tmp / src.relative_to(WEB)).parent.mkdir(parents=True, exist_ok=True)
             shutil.copyfile(src, tmp / src.relative_to(WEB))
-    minify(tmp)
+    bundle(tmp)
     html = tmp / "index.html"
-    html.write_text(html.read_text().replace("__CSP__", CSP))
+    html.write_text(page_html(html.read_text()))
     (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
     write_icons(tmp / "icons")
     version, count = write_service_worker(tmp)
@@ -309,24 +346,55 @@ def build() -> None:
     print(f"build.py: dist/ ready, version {version}, {count} precached files")
 
 
-def minify(root: Path) -> None:
-    """Minify the app's JS and CSS in place with the pinned esbuild (package.json).
+PAGE_ENTRY = "views.js"
+"""The page's second module script; it imports app.js first, so bundling from it keeps
+the order the two scripts run in (app.js's modules, then the check screens')."""
+SEPARATE_JS = ("boot.js", "worker.js")
+"""Scripts that stay files of their own (sw.js is written by write_service_worker)."""
 
-    Each file stays a file of its own (no bundling), so module paths, the worker's
-    URL and the service worker's precache list are unchanged.
-    """
+
+def esbuild(*args: str | Path, source: str | None = None, cwd: Path = ROOT) -> str:
+    """Run the pinned esbuild (minifying) on files, or on ``source`` given on its standard
+    input (its imports found from ``cwd``); returns what it writes to standard output."""
     tool = ROOT / "node_modules" / ".bin" / "esbuild"
-    files = sorted(p for p in root.rglob("*") if p.suffix in (".js", ".css")
-                   and "pyodide" not in p.relative_to(root).parts)
-    if not files:
-        return
     if not tool.exists():
         sys.exit("build.py: esbuild is missing from node_modules: run npm ci")
-    cmd = [str(tool), *map(str, files), "--minify", "--log-level=warning",
-           "--charset=utf8", "--legal-comments=none", f"--outdir={root}",
-           f"--outbase={root}", "--allow-overwrite", "--target=es2020,chrome100,safari15"]
-    if subprocess.run(cmd, cwd=ROOT, check=False).returncode != 0:
-        sys.exit("build.py: esbuild could not minify the app's files")
+    cmd = [str(tool), *map(str, args), "--minify", "--log-level=warning", "--charset=utf8",
+           "--legal-comments=none", "--target=es2020,chrome100,safari15"]
+    done = subprocess.run(cmd, cwd=cwd, input=source, capture_output=True, text=True,
+                          check=False)
+    if done.returncode != 0:
+        sys.exit("build.py: esbuild could not bundle or minify the app's files: "
+                 + done.stderr.strip())
+    return done.stdout
+
+
+def minified_script(source: str) -> str:
+    """A classic script minified (its top-level names kept)."""
+    return esbuild("--loader=js", source=source)
+
+
+def bundle(root: Path) -> None:
+    """The page's modules as one minified app.js (the pinned esbuild, package.json), which
+    also exports the Messenger class (the e2e tests try the shipped class on its own); the
+    boot script and the worker minified as files of their own (the worker imports the
+    runtime's loader at its own URL); the CSS files minified in place."""
+    entry = f'import "./{PAGE_ENTRY}";\nexport {{ Messenger }} from "./messenger.js";\n'
+    esbuild("--bundle", "--format=esm", "--sourcefile=page-bundle.js",
+            f"--outfile={root / 'app.js'}", source=entry, cwd=WEB)
+    esbuild(*(WEB / name for name in SEPARATE_JS), f"--outdir={root}")
+    esbuild(*sorted(root.rglob("*.css")), f"--outdir={root}", f"--outbase={root}",
+            "--allow-overwrite")
+
+
+def page_html(html: str) -> str:
+    """index.html as shipped: the policy filled in, one module script (the bundle), and
+    no indentation (no <pre> or <textarea> in the page, so leading spaces never show)."""
+    second = f'<script type="module" src="{PAGE_ENTRY}"></script>\n'
+    if second not in html or "<pre" in html or "<textarea" in html:
+        sys.exit("build.py: index.html is not as bundle() expects")
+    html = html.replace(second, "").replace("__CSP__", CSP)
+    return "\n".join(line.strip() for line in html.splitlines() if line.strip()) + "\n"
 
 
 def write_service_worker(root: Path) -> tuple[str, int]:
@@ -339,9 +407,17 @@ def write_service_worker(root: Path) -> tuple[str, int]:
                 "sha256-" + base64.b64encode(hashlib.sha256(p.read_bytes()).digest()).decode()]
                for p in files]
     version = sha256(json.dumps(entries).encode())[:12]
-    sw = (WEB / "sw.js").read_text()
-    sw = sw.replace("__VERSION__", version).replace("__PRECACHE__", json.dumps(entries, indent=1))
-    (root / "sw.js").write_text(sw)
+    head: list[str] = []
+    rest: list[str] = []
+    for line in (WEB / "sw.js").read_text().splitlines(keepends=True):
+        (head if line.startswith(("const VERSION =", "const PRECACHE =")) else rest).append(line)
+    if len(head) != 2:
+        sys.exit("build.py: sw.js must declare VERSION and PRECACHE on lines of their own")
+    # The two filled-in lines stay as written (check() and the tests read them); the rest
+    # is minified (globals keep their names in a classic script).
+    listed = json.dumps(entries, separators=(",", ":"))
+    sw = "".join(head).replace("__VERSION__", version).replace("__PRECACHE__", listed)
+    (root / "sw.js").write_text(sw + minified_script("".join(rest)))
     info = {"version": version, "files": len(entries)}
     (root / "build-info.json").write_text(json.dumps(info) + "\n")
     return version, len(entries)

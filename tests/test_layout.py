@@ -134,3 +134,56 @@ def test_the_worker_never_loads_the_command_line() -> None:
     assert "pycore.evaluate" in loaded
     assert not {name for name in loaded
                 if name == "pycore.interfaces.cli" or name.startswith("pycore.interfaces.commands")}
+
+
+def _imports_inside_functions(path: Path) -> set[str]:
+    found: set[str] = set()
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.FunctionDef):
+            for inner in ast.walk(node):
+                if isinstance(inner, ast.ImportFrom) and (inner.module or "").startswith("pycore"):
+                    target = inner.module or ""
+                    known = modules()
+                    found.update(f"{target}.{a.name}" if f"{target}.{a.name}" in known else target
+                                 for a in inner.names)
+    return found
+
+
+def test_the_lazy_list_names_every_import_on_first_use() -> None:
+    """actions.LAZY_MODULES (what preload imports) is exactly what the actions of the
+    bridge and of actions.py import on first use."""
+    from pycore.interfaces import actions
+
+    inside = (_imports_inside_functions(PYCORE / "interfaces" / "actions.py")
+              | _imports_inside_functions(PYCORE / "interfaces" / "bridge.py"))
+    assert inside == set(actions.LAZY_MODULES)
+
+
+def test_a_first_case_result_loads_no_check_or_document_module() -> None:
+    """The worker imports the bridge, then evaluates a case: the ready-made readers,
+    deviations, batch runs, document kinds and text summaries stay unloaded until asked
+    for, and preload loads every one."""
+    import json
+    import subprocess
+    import sys
+
+    example = sorted((PYCORE.parent / "examples").glob("*.json"))[0].read_text()
+    script = (
+        "import json, sys\n"
+        "from pycore.interfaces import actions, bridge\n"
+        f"reply = json.loads(bridge.handle(json.dumps({{'action': 'evaluate_live', "
+        f"'payload': {{'case': json.loads({example!r})}}}})))\n"
+        "assert reply['ok'], reply\n"
+        "before = sorted(m for m in sys.modules if m.startswith('pycore'))\n"
+        "actions.preload()\n"
+        "after = sorted(m for m in sys.modules if m.startswith('pycore'))\n"
+        "print(json.dumps([before, after]))\n")
+    done = subprocess.run([sys.executable, "-c", script], cwd=PYCORE.parent, check=True,
+                          capture_output=True, text=True)
+    before, after = json.loads(done.stdout)
+    for name in ("pycore.checks.readers", "pycore.checks.reader_stock", "pycore.checks.deviation",
+                 "pycore.documents.batch", "pycore.documents.kinds", "pycore.documents.summary"):
+        assert name not in before and name in after, name
+    from pycore.interfaces import actions
+
+    assert set(actions.LAZY_MODULES) <= set(after)

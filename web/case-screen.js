@@ -46,8 +46,12 @@ export function setUpCaseScreen(host) {
   window.addEventListener("beforeprint", drawPrintSummary);
 
   // The band stays in view while typing; fields scrolled into view stay below it.
-  const bandHeight = () => document.documentElement.style.setProperty("--band-h",
-    getComputedStyle(band).position === "sticky" ? band.offsetHeight + "px" : "0px");
+  // Set only when it changes: a new value on the root restyles the whole page.
+  let bandH = "";
+  const bandHeight = () => {
+    const h = getComputedStyle(band).position === "sticky" ? band.offsetHeight + "px" : "0px";
+    if (h !== bandH) document.documentElement.style.setProperty("--band-h", (bandH = h));
+  };
   if ("ResizeObserver" in window) new ResizeObserver(bandHeight).observe(band);
   window.addEventListener("resize", bandHeight);
 

@@ -12,23 +12,6 @@ from __future__ import annotations
 
 from typing import Any
 
-from pycore.checks import reader_stock, verification
-from pycore.checks.deviation import read_deviation, through_spectacles
-from pycore.checks.reader_limits import limit_sets
-from pycore.checks.reader_stock import (
-    parse_stock_csv,
-    read_stock,
-    stock_to_csv,
-    undo_hand_out,
-)
-from pycore.checks.readers import readers_request
-from pycore.checks.readers_text import deviation_text, readers_text
-from pycore.checks.tolerances import tolerance_tables
-from pycore.checks.verification_input import read_verification
-from pycore.checks.verification_section import evaluate_section
-from pycore.checks.verification_text import verification_text
-from pycore.documents import kinds
-from pycore.documents.batch import FORMATS, run_csv_text
 from pycore.documents.cases import read_case
 from pycore.documents.fields import as_object, only_keys
 from pycore.errors import CaseError, shown
@@ -36,11 +19,40 @@ from pycore.evaluate import evaluate
 from pycore.reading.remedies.side_by_side import finished_case, remedies_section
 from pycore.reading.zone import reading_zone_section
 
+# The case pipeline above is imported with the bridge. Each other action imports its own
+# modules when it is first asked for (verification, readers, deviations, documents,
+# batch runs), so the first case result never waits for them; LAZY_MODULES lists them
+# all, for a worker that wants them loaded ahead of use (preload).
+
+LAZY_MODULES = (
+    "pycore.checks.deviation", "pycore.checks.reader_limits", "pycore.checks.reader_stock",
+    "pycore.checks.readers", "pycore.checks.readers_text", "pycore.checks.tolerances",
+    "pycore.checks.verification", "pycore.checks.verification_input",
+    "pycore.checks.verification_section", "pycore.checks.verification_text",
+    "pycore.documents.batch", "pycore.documents.kinds", "pycore.documents.summary",
+)
+"""Every module an action (here or in the bridge) imports on first use; tests/test_layout.py
+checks the list against the imports themselves."""
+
+
+def preload() -> None:
+    """Import every action's modules now (for an interpreter image that holds them all)."""
+    import importlib
+
+    for name in LAZY_MODULES:
+        importlib.import_module(name)
+
+
 MAX_TEXT = 2_000_000
 
 
 def verify(payload: Any) -> dict[str, Any]:
     """A verification document, or a case with a verification section -> the verdicts."""
+    from pycore.checks import verification
+    from pycore.checks.verification_input import read_verification
+    from pycore.checks.verification_section import evaluate_section
+    from pycore.checks.verification_text import verification_text
+
     obj = as_object(payload, "", "a verification")
     if "ordered" not in obj and "right" in obj:
         result = evaluate_section(read_case(obj), {})
@@ -54,20 +66,29 @@ def verify(payload: Any) -> dict[str, Any]:
 
 
 def verify_standards(_payload: Any) -> dict[str, Any]:
+    from pycore.checks.tolerances import tolerance_tables
+
     return {"standards": [table.as_dict() for table in tolerance_tables().values()]}
 
 
 def readers_limit_sets(_payload: Any) -> dict[str, Any]:
+    from pycore.checks.reader_limits import limit_sets
+
     return {"limit_sets": [limits.as_dict() for limits in limit_sets().values()]}
 
 
 def readers_rank(payload: Any) -> dict[str, Any]:
+    from pycore.checks.readers import readers_request
+    from pycore.checks.readers_text import readers_text
+
     result = readers_request(payload)
     return {**result, "text": readers_text(result)}
 
 
 def stock_import(payload: Any) -> dict[str, Any]:
     """CSV text -> the good pairs and the refused rows (line, column, field, message)."""
+    from pycore.checks.reader_stock import parse_stock_csv
+
     obj = as_object(payload, "", "a stock import")
     only_keys(obj, "", ("csv",))
     text = _text(obj, "csv")
@@ -77,19 +98,26 @@ def stock_import(payload: Any) -> dict[str, Any]:
 
 
 def stock_export(payload: Any) -> dict[str, Any]:
+    from pycore.checks.reader_stock import read_stock, stock_to_csv
+
     obj = as_object(payload, "", "a stock export")
     only_keys(obj, "", ("stock",))
     return {"csv": stock_to_csv(read_stock(obj.get("stock")))}
 
 
 def hand_out(payload: Any) -> dict[str, Any]:
+    from pycore.checks import reader_stock
+
     obj = as_object(payload, "", "a hand-out")
     only_keys(obj, "", ("stock", "id"))
-    stock, record = reader_stock.hand_out(read_stock(obj.get("stock")), obj.get("id"))
+    stock, record = reader_stock.hand_out(reader_stock.read_stock(obj.get("stock")),
+                                          obj.get("id"))
     return {"stock": [pair.as_dict() for pair in stock], "undo": record}
 
 
 def undo(payload: Any) -> dict[str, Any]:
+    from pycore.checks.reader_stock import read_stock, undo_hand_out
+
     obj = as_object(payload, "", "an undo")
     only_keys(obj, "", ("stock", "undo"))
     stock = undo_hand_out(read_stock(obj.get("stock")), obj.get("undo"))
@@ -97,12 +125,17 @@ def undo(payload: Any) -> dict[str, Any]:
 
 
 def deviation(payload: Any) -> dict[str, Any]:
+    from pycore.checks.deviation import read_deviation, through_spectacles
+    from pycore.checks.readers_text import deviation_text
+
     result = through_spectacles(read_deviation(payload))
     return {**result, "text": deviation_text(result)}
 
 
 def batch(payload: Any) -> dict[str, Any]:
     """CSV text of cases -> the report text (csv, jsonl or text) and the counts."""
+    from pycore.documents.batch import FORMATS, run_csv_text
+
     obj = as_object(payload, "", "a batch")
     only_keys(obj, "", ("csv", "format"))
     form = obj.get("format", "csv")
@@ -137,6 +170,8 @@ def apply_remedy(payload: Any) -> dict[str, Any]:
 
 def read_document(payload: Any) -> dict[str, Any]:
     """``{text, expect?}`` -> ``{kind, document}``: a file read the way the CLI reads it."""
+    from pycore.documents import kinds
+
     if not isinstance(payload, dict) or "text" not in payload:
         raise CaseError("text", "text is missing from the request.")
     unknown = set(payload) - {"text", "expect"}

@@ -16,7 +16,6 @@ from typing import Any
 from pycore import __version__
 from pycore.documents.cases import MAX_DOCUMENT_BYTES, MAX_NESTING, load_json, read_case
 from pycore.documents.fields import as_object, only_keys
-from pycore.documents.summary import text_summary
 from pycore.errors import CaseError
 from pycore.evaluate import LIVE_SECTIONS, SECTIONS, evaluate
 from pycore.interfaces import actions
@@ -104,6 +103,8 @@ def _open_remedy(payload: Any) -> dict[str, Any]:
 
 
 def _summary(payload: Any) -> dict[str, Any]:
+    from pycore.documents.summary import text_summary
+
     return {"text": text_summary(evaluate(read_case(payload)))}
 
 

@@ -410,7 +410,7 @@ def test_a_message_that_cannot_be_sent_is_answered_at_once(app):
     """postMessage throws (here: a value the browser cannot copy): the request is
     answered at once and nothing stays pending."""
     reply = app.evaluate("""async () => {
-        const { Messenger } = await import(new URL('messenger.js', location.href).href);
+        const { Messenger } = await import(new URL('app.js', location.href).href);
         const worker = { addEventListener() {}, terminate() {},
                          postMessage(message) { structuredClone(message); } };
         const messenger = new Messenger(worker, { startTimeoutMs: 600000 });
