@@ -8,7 +8,7 @@
     python3 build.py --check          build, then verify dist/ against its own precache list
 
 Standard library only, but for the pinned esbuild (package.json) that bundles and minifies
-the page's JS and CSS; the browser's archive of the core is written here with ``tarfile``.
+the page's JS and CSS; the browser's wheel of the core is written here with ``zipfile``.
 """
 
 from __future__ import annotations
@@ -87,7 +87,7 @@ def ensure_npm() -> None:
         sys.exit("build.py: npm ci failed")
 
 
-# ---------------------------------------------------------------- the core's archive
+# ---------------------------------------------------------------- the wheel
 WEB_LEFT_OUT = ("pycore/__main__.py", "pycore/interfaces/cli.py", "pycore/interfaces/commands/",
                 "pycore/py.typed")
 """What the browser never runs: the command line (the worker imports pycore.interfaces.bridge)."""
@@ -146,7 +146,7 @@ def _one_space_indents(source: str) -> str:
 
 
 def web_core_files() -> dict[str, bytes]:
-    """Archive name -> bytes for the core as the browser runs it (data tables compacted)."""
+    """Wheel name -> bytes for the core as the browser runs it (data tables compacted)."""
     files: dict[str, bytes] = {}
     for path in core_sources():
         name = path.relative_to(ROOT).as_posix()
@@ -162,44 +162,51 @@ def web_core_files() -> dict[str, bytes]:
     return files
 
 
-def build_core_archive() -> Path:
-    """The core for the browser as one gzip-compressed tar (ustar), unpacked into
-    site-packages by the worker: one compressed stream over every module is about a
-    quarter smaller than a wheel, whose zip compresses each file on its own. Only what
-    runs there; the bytes depend on the content only (fixed times, owners and order).
-    Cached by content."""
-    import gzip
-    import io
-    import tarfile
+def _record_hash(data: bytes) -> str:
+    return base64.urlsafe_b64encode(hashlib.sha256(data).digest()).decode().rstrip("=")
+
+
+def build_wheel() -> Path:
+    """The core as a wheel for the browser (pure Python, py3-none-any), written directly:
+    only what runs there, as ``web_core_files`` gives it. The bytes depend on the content
+    only (fixed times and modes, files sorted, deflate level 9). Cached by content."""
     import tomllib
+    import zipfile
 
     version = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["version"]
     files = web_core_files()
     key = sha256(b"".join(n.encode() + b"\0" + d for n, d in sorted(files.items())))[:16]
-    archive = CACHE / f"core-{key}" / f"prism_desk-{version}.tar.gz"
-    if archive.exists():
-        return archive
-    tar = io.BytesIO()
-    with tarfile.open(fileobj=tar, mode="w", format=tarfile.USTAR_FORMAT) as out:
+    wheel = CACHE / f"wheel-{key}" / f"prism_desk-{version}-py3-none-any.whl"
+    if wheel.exists():
+        return wheel
+    info = f"prism_desk-{version}.dist-info"
+    files[f"{info}/METADATA"] = (f"Metadata-Version: 2.1\nName: {CORE_NAME}\n"
+                                 f"Version: {version}\n").encode()
+    files[f"{info}/WHEEL"] = (b"Wheel-Version: 1.0\nGenerator: build.py\n"
+                              b"Root-Is-Purelib: true\nTag: py3-none-any\n")
+    record = [f"{name},sha256={_record_hash(data)},{len(data)}"
+              for name, data in sorted(files.items())]
+    files[f"{info}/RECORD"] = ("\n".join([*record, f"{info}/RECORD,,"]) + "\n").encode()
+    wheel.parent.mkdir(parents=True, exist_ok=True)
+    part = wheel.with_suffix(f".{os.getpid()}.part")
+    with zipfile.ZipFile(part, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as archive:
         for name, data in sorted(files.items()):
-            entry = tarfile.TarInfo(name)
-            entry.size, entry.mode, entry.mtime = len(data), 0o644, 0
-            out.addfile(entry, io.BytesIO(data))
-    archive.parent.mkdir(parents=True, exist_ok=True)
-    part = archive.with_suffix(f".{os.getpid()}.part")
-    part.write_bytes(gzip.compress(tar.getvalue(), compresslevel=9, mtime=0))
-    part.replace(archive)   # several builds may overlap: the last identical file wins
-    return archive
+            entry = zipfile.ZipInfo(name, date_time=(2020, 1, 1, 0, 0, 0))
+            entry.compress_type = zipfile.ZIP_DEFLATED
+            entry.external_attr = 0o644 << 16
+            archive.writestr(entry, data)
+    part.replace(wheel)   # several builds may overlap: the last identical file wins
+    return wheel
 
 
-def lock_file(archive: Path) -> dict[str, Any]:
-    """A lock file listing only this app's own core (no CDN, nothing else to fetch); the
-    worker takes the archive's name and sha256 from it."""
+def lock_file(wheel: Path) -> dict[str, Any]:
+    """A lock file listing only this app's own wheel (no CDN, nothing else to fetch); the
+    worker takes the wheel's name and sha256 from it."""
     upstream = json.loads((PYODIDE / "pyodide-lock.json").read_text())
-    version = archive.name.removesuffix(".tar.gz").split("-")[1]
+    version = wheel.name.split("-")[1]
     return {"info": upstream["info"], "packages": {CORE_NAME: {
-        "name": CORE_NAME, "version": version, "file_name": archive.name,
-        "install_dir": "site", "sha256": sha256(archive.read_bytes()),
+        "name": CORE_NAME, "version": version, "file_name": wheel.name,
+        "install_dir": "site", "sha256": sha256(wheel.read_bytes()),
         "package_type": "package", "imports": ["pycore"], "depends": [],
         "unvendored_tests": False}}}
 
@@ -316,15 +323,15 @@ def manifest() -> dict[str, Any]:
 # ---------------------------------------------------------------- the build
 def build() -> None:
     ensure_npm()
-    archive = build_core_archive()
+    wheel = build_wheel()
     CACHE.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix="dist-", dir=CACHE.parent))   # swapped in whole at the end
     (tmp / "pyodide").mkdir()
-    (tmp / "core").mkdir()
+    (tmp / "wheels").mkdir()
     for name in RUNTIME:
         shutil.copyfile(PYODIDE / name, tmp / "pyodide" / name)
-    shutil.copyfile(archive, tmp / "core" / archive.name)
-    (tmp / "pyodide-lock.json").write_text(json.dumps(lock_file(archive), indent=1) + "\n")
+    shutil.copyfile(wheel, tmp / "wheels" / wheel.name)
+    (tmp / "pyodide-lock.json").write_text(json.dumps(lock_file(wheel), indent=1) + "\n")
     for src in sorted(WEB.rglob("*")):
         if src.is_file() and src.suffix != ".js":
             (tmp / src.relative_to(WEB)).parent.mkdir(parents=True, exist_ok=True)

@@ -241,7 +241,7 @@ def main() -> int:
     ]
     lines += ["", "Worker milestones, ms since the worker started (fetched: runtime script, "
               "lock file and any saved image in hand; runtime: interpreter up; unpacked: core "
-              "archive unpacked; core: core imported; ready; first: first evaluate answered):"]
+              "wheel installed; core: core imported; ready; first: first evaluate answered):"]
     lines += [f"- {name}: " + json.dumps(marks) for name, marks in engine.items()]
     text = "\n".join(lines) + "\n"
     print(text)

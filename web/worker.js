@@ -4,9 +4,9 @@
 // {event: "progress", file, what, loaded, total}, {event: "stopped", error}, {event: "timings"}.
 // See docs/worker-protocol.md.
 //
-// Start-up: the runtime, the lock file and the core's archive are fetched in
-// parallel; the core's archive (a .tar.gz) is hash checked (its sha256 from the
-// lock file) and unpacked into site-packages. After the first answer, an image of the warmed
+// Start-up: the runtime, the lock file and the core's wheel are fetched in
+// parallel; the wheel is hash checked (its sha256 from the lock file) and
+// unpacked into site-packages. After the first answer, an image of the warmed
 // interpreter's memory is kept in Cache Storage, so later visits restore it
 // instead of booting Python and importing the core again. Any trouble with that
 // image falls back to the ordinary start.
@@ -27,7 +27,7 @@ function failure(code, message) {
 const FILES = [
   [".wasm", "the Python runtime"],
   ["python_stdlib.zip", "Python's standard library"],
-  [".tar.gz", "the calculation core"],
+  [".whl", "the calculation core"],
   ["pyodide-lock.json", "the list of the calculator's parts"],
   [".mjs", "the runtime's loader"],
   [".js", "the runtime's loader"],
@@ -135,49 +135,13 @@ async function openImages() {
   }
 }
 
-// The core's archive: a gzip-compressed ustar file written by build.py (regular files
-// and folders only). Python's zlib inflates it (no extra module to import); the tar
-// entries are written into site-packages from here.
-function unpackCore(pyodide, gz) {
-  pyodide.FS.writeFile("/tmp/core.tar.gz", gz);
-  const site = pyodide.runPython("import site, zlib\n" +
-    "with open('/tmp/core.tar.gz', 'rb') as f: data = zlib.decompress(f.read(), 31)\n" +
-    "with open('/tmp/core.tar', 'wb') as f: f.write(data)\n" +
-    "del f, data, zlib\n" +
-    "site.getsitepackages()[0]");
-  const tar = pyodide.FS.readFile("/tmp/core.tar");
-  pyodide.FS.unlink("/tmp/core.tar.gz");
-  pyodide.FS.unlink("/tmp/core.tar");
-  const text = (at, length) => {
-    let end = at;
-    while (end < at + length && tar[end] !== 0) end += 1;
-    return new TextDecoder().decode(tar.subarray(at, end));
-  };
-  for (let at = 0; at + 512 <= tar.length;) {
-    const name = text(at, 100);
-    if (!name) break;
-    const size = parseInt(text(at + 124, 12).trim() || "0", 8);
-    const prefix = text(at + 345, 155);
-    const path = `${site}/${prefix ? prefix + "/" : ""}${name}`;
-    const type = String.fromCharCode(tar[at + 156] || 48);
-    if (name.includes("..") || prefix.includes("..")) throw new Error("bad path in the core's archive");
-    if (type === "5") {
-      pyodide.FS.mkdirTree(path);
-    } else if (type === "0") {
-      pyodide.FS.mkdirTree(path.slice(0, path.lastIndexOf("/")));
-      pyodide.FS.writeFile(path, tar.subarray(at + 512, at + 512 + size));
-    }
-    at += 512 + Math.ceil(size / 512) * 512;
-  }
-}
-
 async function start(useImage = true) {
   if (typeof WebAssembly !== "object" || typeof WebAssembly.instantiate !== "function") {
     throw failure("no-wasm", "This browser has WebAssembly turned off or does not support it.");
   }
   const lock = fetchOk(here("./pyodide-lock.json"), {}, "the list of the calculator's parts").then((r) => r.json());
   const entry = lock.then((l) => Object.values(l.packages)[0]);
-  const core = entry.then((e) => fetchOk(here("./core/" + e.file_name),
+  const wheel = entry.then((e) => fetchOk(here("./wheels/" + e.file_name),
     { integrity: "sha256-" + hexToBase64(e.sha256) }, "the calculation core").then((r) => r.arrayBuffer()));
   const images = openImages();
   const imageKey = entry.then((e) => here(`./__image/${SNAPSHOT_FORMAT}/${e.sha256}`));
@@ -185,7 +149,7 @@ async function start(useImage = true) {
     const hit = cache && (await cache.match(key));
     return hit ? new Uint8Array(await hit.arrayBuffer()) : null;
   }).catch(() => null);
-  core.catch(() => {});
+  wheel.catch(() => {});
 
   const [{ loadPyodide, version: runtimeVersion }, lockData, saved] =
     await Promise.all([import("./pyodide/pyodide.mjs").catch((err) => {
@@ -197,7 +161,7 @@ async function start(useImage = true) {
   const options = {
     indexURL: here("./pyodide/"),
     lockFileContents: lockData,
-    packageBaseUrl: here("./core/"),
+    packageBaseUrl: here("./wheels/"),
     stdout: () => {},
     stderr: (line) => console.warn("[python]", line),
   };
@@ -215,11 +179,15 @@ async function start(useImage = true) {
   if (!pyodide) pyodide = await loadPyodide({ ...options, _makeSnapshot: true });
   mark("runtime");
 
-  // Unpack the (hash-checked) core into site-packages. After an image restore the
+  // Unpack the (hash-checked) wheel into site-packages. After an image restore the
   // modules are already in memory, but their files are needed for later imports.
   let bridge;
   try {
-    unpackCore(pyodide, new Uint8Array(await core));
+    pyodide.FS.writeFile("/tmp/prism_desk.whl", new Uint8Array(await wheel));
+    pyodide.runPython("import site, zipfile\n" +
+      "with zipfile.ZipFile('/tmp/prism_desk.whl') as w: w.extractall(site.getsitepackages()[0])\n" +
+      "del site, zipfile, w");
+    pyodide.FS.unlink("/tmp/prism_desk.whl");
     mark("unpacked");
     bridge = pyodide.pyimport("pycore.interfaces.bridge");
   } catch (err) {

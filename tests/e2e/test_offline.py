@@ -67,7 +67,7 @@ def test_nothing_leaves_the_origin(context, own_site, watch):
     assert outside == []
     fetched = {url.split("#")[0].removeprefix(own_site.url) for url in watch.requests}
     assert {"worker.js", "pyodide/pyodide.asm.wasm", "pyodide-lock.json", "sw.js"} <= fetched
-    assert any(u.startswith("core/") and u.endswith(".tar.gz") for u in fetched)
+    assert any(u.startswith("wheels/") and u.endswith(".whl") for u in fetched)
 
 
 def test_update_waits_for_the_user_then_replaces_the_cache(context, own_site, watch):

@@ -59,10 +59,10 @@ def test_precache_list_matches_the_files(dist):
     assert f'const VERSION = "{version}"' in sw
 
 
-def test_lock_file_pins_the_core(dist):
+def test_lock_file_pins_the_wheel(dist):
     lock = json.loads((dist / "pyodide-lock.json").read_text())
     (entry,) = lock["packages"].values()
-    archive = dist / "core" / entry["file_name"]
-    assert hashlib.sha256(archive.read_bytes()).hexdigest() == entry["sha256"]
+    wheel = dist / "wheels" / entry["file_name"]
+    assert hashlib.sha256(wheel.read_bytes()).hexdigest() == entry["sha256"]
     assert entry["imports"] == ["pycore"]
 
