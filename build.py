@@ -146,7 +146,7 @@ def _one_space_indents(source: str) -> str:
 
 
 def web_core_files() -> dict[str, bytes]:
-    """Wheel name -> bytes for the core as the browser runs it (data tables compacted)."""
+    """Path in the wheel -> bytes for the core as the browser runs it (data tables compacted)."""
     files: dict[str, bytes] = {}
     for path in core_sources():
         name = path.relative_to(ROOT).as_posix()
