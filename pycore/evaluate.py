@@ -3,8 +3,8 @@
 ``evaluate(case, sections)`` computes the result sections in one visible order:
 
 1. ``points``: the prism before each eye and the net at every point of gaze;
-   ``point_nets``: only each point's name and net (key ``point_nets``), for a screen
-   that shows the nets but not each eye's parts;
+   ``point_totals``: each point's name, each eye's total and the net (key
+   ``point_totals``), for a screen that shows those but not each eye's parts;
 2. ``eyes``: each lens as ordered (powers, transposed form, prism, decentration);
 3. ``fitting``: the distance and near centration;
 4. ``frame``: frame PD, decentration and the smallest blank;
@@ -47,15 +47,15 @@ from pycore.spectacles.gaze import GazePoint
 from pycore.spectacles.heights import describe_heights, reference_point_height_mm
 from pycore.spectacles.lens import Lens
 
-SECTIONS = ("points", "point_nets", "eyes", "fitting", "frame", "reading_zone", "reading_map",
+SECTIONS = ("points", "point_totals", "eyes", "fitting", "frame", "reading_zone", "reading_map",
             "sensitivity", "remedies", "remedies_full", "verification")
 """Every result section, in the order ``evaluate`` computes them."""
 
-WHOLE_SECTIONS = tuple(name for name in SECTIONS if name != "point_nets")
-"""The whole result (the command line's, Print's): every section but ``point_nets``,
+WHOLE_SECTIONS = tuple(name for name in SECTIONS if name != "point_totals")
+"""The whole result (the command line's, Print's): every section but ``point_totals``,
 whose figures ``points`` already holds."""
 
-LIVE_SECTIONS = ("point_nets", "eyes", "reading_zone", "remedies")
+LIVE_SECTIONS = ("point_totals", "eyes", "reading_zone", "remedies")
 """What the case screen shows after each keystroke with its sections folded: the answer
 band (the reading zone's figures, the suggested remedy, the points' nets when there is no
 reading zone) and the transposed form beside each prescription (docs/worker-protocol.md).
@@ -67,7 +67,7 @@ BASIC_SECTIONS = ("points", "eyes", "fitting", "frame")
 """The sections that need no lens-design analysis (fast enough for every keystroke)."""
 
 __all__ = ["BASIC_SECTIONS", "CAUTIONS", "LIVE_SECTIONS", "SECTIONS", "WHOLE_SECTIONS", "evaluate",
-           "evaluate_point", "point_net", "resolve_points"]
+           "evaluate_point", "point_totals_at", "resolve_points"]
 
 
 def near_horizontal_power(case: Case, eye: Eye) -> float:
@@ -138,17 +138,19 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
     return result
 
 
-def point_net(case: Case, point: GazePoint) -> dict[str, Any]:
-    """``evaluate_point``'s name and net alone (the same numbers), for ``point_nets``."""
-    parts = {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
-    net = NetPrism.between(parts["right"].total, parts["left"].total)
-    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
+def point_totals_at(case: Case, point: GazePoint) -> dict[str, Any]:
+    """``evaluate_point`` without the position, zones and parts: the name, each eye's
+    total and the net (the same numbers), for ``point_totals``."""
+    totals = {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
+    net = NetPrism.between(totals["right"].total, totals["left"].total)
+    prescribed = NetPrism.between(totals["right"].prescribed, totals["left"].prescribed)
     found = net.as_dict()
     found["induced_vertical_base_up_right"] = (net.vertical_base_up_right
                                                - prescribed.vertical_base_up_right)
     found["induced_horizontal_base_in"] = (net.horizontal_base_in
                                            - prescribed.horizontal_base_in)
-    return {"name": point.name, "net": found}
+    return {"name": point.name, "right": totals["right"].total.as_dict("right"),
+            "left": totals["left"].total.as_dict("left"), "net": found}
 
 
 def describe_lens(lens: Lens, eye: Eye) -> dict[str, Any]:
@@ -255,8 +257,8 @@ def evaluate(case: Case, sections: Iterable[str] = WHOLE_SECTIONS) -> dict[str, 
     result: dict[str, Any] = {}
     if "points" in wanted:
         result["points"] = [evaluate_point(case, point) for point in resolve_points(case)]
-    if "point_nets" in wanted:
-        result["point_nets"] = [point_net(case, point) for point in resolve_points(case)]
+    if "point_totals" in wanted:
+        result["point_totals"] = [point_totals_at(case, point) for point in resolve_points(case)]
     if "eyes" in wanted:
         result["eyes"] = {eye: describe_lens(case.lens(eye), eye) for eye in EYES}
     if "fitting" in wanted:

@@ -63,6 +63,14 @@ def request(action: str, payload: Any) -> dict[str, Any]:
 
 # --------------------------------------------------------------------------- live request
 
+def totals(point: dict[str, Any]) -> dict[str, Any]:
+    """A whole result's point as the live request's point_totals carry it: the name, each
+    eye's total (without zone and parts) and the net."""
+    eye = {key: value for key, value in point["right"].items() if key not in ("zone", "parts")}
+    other = {key: value for key, value in point["left"].items() if key not in ("zone", "parts")}
+    return {"name": point["name"], "right": eye, "left": other, "net": point["net"]}
+
+
 BAND_KEYS = ("threshold", "geometry", "designs", "prescribed_net", "at_distance",
              "at_reading_point", "threshold_drop_mm", "threshold_point",
              "over_threshold_at_reading_point", "image_jump", "thinning_prism")
@@ -82,10 +90,10 @@ def test_the_live_answer_is_the_whole_answer_in_part(document: dict[str, Any]) -
     live = request("evaluate_live", {"case": document})
     assert live["ok"]
     result = live["result"]
-    assert set(result) == {"point_nets", "eyes", "cautions", "reading_zone", "remedies"}
+    assert set(result) == {"point_totals", "eyes", "cautions", "reading_zone", "remedies"}
     assert result["eyes"] == json.loads(json.dumps(whole["eyes"]))
-    assert result["point_nets"] == json.loads(json.dumps(
-        [{"name": p["name"], "net": p["net"]} for p in whole["points"]]))
+    assert result["point_totals"] == json.loads(json.dumps(
+        [totals(p) for p in whole["points"]]))
     zone, full_zone = result["reading_zone"], whole["reading_zone"]
     for key in BAND_KEYS:
         assert zone[key] == json.loads(json.dumps(full_zone[key])), key
@@ -113,18 +121,17 @@ def test_folded_sections_come_when_asked_for() -> None:
     result = request("evaluate_live", {"case": BIFOCAL_ANISOMETROPE, "sections": asked})
     assert result["ok"]
     whole = json.loads(json.dumps(evaluate(read_case(BIFOCAL_ANISOMETROPE))))
-    nets = result["result"].pop("point_nets")
+    nets = result["result"].pop("point_totals")
     assert result["result"] == whole  # every section but verification (there is none)
     assert list(result["result"]["reading_zone"]) == list(whole["reading_zone"])
-    # The live request's nets are the whole result's, point by point.
-    assert nets == [{"name": p["name"], "net": p["net"]} for p in whole["points"]]
+    # The live request's totals are the whole result's, point by point.
+    assert nets == [totals(p) for p in whole["points"]]
 
 
 def test_the_whole_result_has_every_section_by_default() -> None:
     whole = evaluate(read_case(BIFOCAL_ANISOMETROPE))
     every = evaluate(read_case(BIFOCAL_ANISOMETROPE), SECTIONS)
-    assert every.pop("point_nets") == [{"name": p["name"], "net": p["net"]}
-                                       for p in every["points"]]
+    assert every.pop("point_totals") == [totals(p) for p in every["points"]]
     assert whole == every
 
 

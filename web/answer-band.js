@@ -78,9 +78,9 @@ function remedyLine(result, over, onApply) {
 }
 
 // No reading zone (no fitting to find one): the largest vertical imbalance over the points
-// (their nets: the live request's point_nets, or the whole result's points).
+// (their nets: the live request's point_totals, or the whole result's points).
 function atPoints(result) {
-  const list = result.points ? "points" : "point_nets";
+  const list = result.points ? "points" : "point_totals";
   const points = result[list];
   let worst = 0;
   points.forEach((p, i) => {

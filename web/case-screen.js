@@ -14,7 +14,7 @@ export const DEBOUNCE_MS = 50;
 const MAX_MARKED = 6; // bad fields marked at once
 // What each keystroke asks for (the band, the transposed forms) and what each folded
 // section adds once opened (pycore.evaluate, docs/worker-protocol.md).
-const LIVE_SECTIONS = ["point_nets", "eyes", "reading_zone", "remedies"];
+const LIVE_SECTIONS = ["point_totals", "eyes", "reading_zone", "remedies"];
 const ON_OPEN = { "sec-points": ["points", "fitting", "frame"], "sec-map": ["reading_map", "frame"],
   "sec-remedies": ["remedies_full"], "sec-errors": ["sensitivity"] };
 const $ = (selector) => document.querySelector(selector);
@@ -240,7 +240,7 @@ export function setUpCaseScreen(host) {
     $("#print-summary").dataset.stale = "false";
     results.dataset.status = "current";
     results.dataset.seq = String(Number(results.dataset.seq || 0) + 1);
-    const count = (result.points || result.point_nets).length;
+    const count = (result.points || result.point_totals).length;
     statusLine.textContent = `Up to date · ${count} point${count === 1 ? "" : "s"} of gaze`;
   }
 

@@ -214,7 +214,7 @@ function genericBlock(result, key) {
 }
 
 // reading_zone and remedies are drawn by zone.js.
-const KNOWN = new Set(["points", "point_nets", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
+const KNOWN = new Set(["points", "point_totals", "eyes", "fitting", "frame", "cautions", "reading_zone", "remedies"]);
 
 // The folded sections of the results, in their fixed order.
 export const SECTIONS = [
@@ -335,8 +335,10 @@ export function renderPrintSummary(node, doc, result, chosen = null) {
             : [fig(result, `${base}.summary`)])];
     line(chosen ? "Remedy (applied)" : "Remedy (suggested)", ...order);
   }
-  const pointRows = result.points.map((_, i) => {
-    const p = `points.${i}`;
+  // The whole result's points, or (printed straight after a keystroke) the live totals.
+  const list = result.points ? "points" : "point_totals";
+  const pointRows = result[list].map((_, i) => {
+    const p = `${list}.${i}`;
     return el("tr", {},
       el("th", { scope: "row" }, fig(result, p + ".name")),
       el("td", {}, fig(result, p + ".right.in_words")),

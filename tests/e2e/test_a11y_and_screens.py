@@ -59,6 +59,8 @@ def test_keyboard_only_use(site, page):
     assert page.evaluate("() => document.activeElement.dataset.field") == "name"
     page.keyboard.type("by keyboard")
     wait_result(page, after=seq)
+    page.focus("#sec-points > summary")                   # the folded figures, by keyboard
+    page.keyboard.press("Enter")
     page.wait_for_function("""() => [...document.querySelectorAll('.point h3')]
                                .some(h => h.textContent === 'by keyboard')""", timeout=10_000)
     page.focus("#custom-points li:last-child .remove")
