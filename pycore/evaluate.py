@@ -28,7 +28,6 @@ from collections.abc import Iterable
 from typing import Any
 
 from pycore.cautions import CAUTIONS
-from pycore.checks.verification_section import evaluate_section as verification_section
 from pycore.documents.cases import Case, Frame
 from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye
@@ -271,7 +270,11 @@ def evaluate(case: Case, sections: Iterable[str] = WHOLE_SECTIONS) -> dict[str, 
         result["reading_zone"] = reading_zone_section(case, result, parts)
     if "remedies" in wanted or "remedies_full" in wanted:
         result["remedies"] = remedies_section(case, result, full="remedies_full" in wanted)
-    if "verification" in wanted:
+    if "verification" in wanted and "verification" in case.extras:
+        # Imported here: the pair check's nine modules are not needed for a case without
+        # a verification section (most of them), nor at the browser's start.
+        from pycore.checks.verification_section import evaluate_section as verification_section
+
         verdicts = verification_section(case, result)
         if verdicts is not None:
             result["verification"] = verdicts
