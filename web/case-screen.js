@@ -44,6 +44,11 @@ export function setUpCaseScreen(host) {
     printPending = false;
   }
   window.addEventListener("beforeprint", drawPrintSummary);
+  // Drawn anew for each print: nothing of an earlier case stays in the page after it.
+  window.addEventListener("afterprint", () => {
+    $("#print-summary").replaceChildren();
+    printPending = Boolean(lastGood);
+  });
 
   // The band stays in view while typing; fields scrolled into view stay below it.
   // Set only when it changes: a new value on the root restyles the whole page.

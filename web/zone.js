@@ -475,6 +475,7 @@ export function setUpZone(host) {
     const result = state.last;
     printNode.replaceChildren(...(result && result.reading_zone ? [printBlock(result, state.doc || {})] : []));
   });
+  window.addEventListener("afterprint", () => printNode.replaceChildren());
 
   return {
     apply,
