@@ -44,7 +44,7 @@ from pycore.spectacles.decentration import (
 from pycore.spectacles.fitting import Fitting
 from pycore.spectacles.gaze import GazePoint
 from pycore.spectacles.heights import describe_heights, reference_point_height_mm
-from pycore.spectacles.lens import Lens
+from pycore.spectacles.lens import Lens, PrismAtPoint
 
 SECTIONS = ("points", "point_totals", "eyes", "fitting", "frame", "reading_zone", "reading_map",
             "sensitivity", "remedies", "remedies_full", "verification")
@@ -109,9 +109,26 @@ def _near_point(case: Case, fitting: Fitting | None) -> GazePoint:
                         "working distance.") from None
 
 
-def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
-    parts = {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
+def _prism_at_point(case: Case, point: GazePoint) -> dict[Eye, PrismAtPoint]:
+    return {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
+
+
+def _net_with_induced(parts: dict[Eye, PrismAtPoint]) -> dict[str, Any]:
+    """The net between the eyes and, beside each total, the induced part: the total net
+    minus the net of the prescribed prism, which is the wearer's correction and not an
+    imbalance (docs/case-format.md, "Induced and prescribed")."""
     net = NetPrism.between(parts["right"].total, parts["left"].total)
+    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
+    found = net.as_dict()
+    found["induced_vertical_base_up_right"] = (net.vertical_base_up_right
+                                               - prescribed.vertical_base_up_right)
+    found["induced_horizontal_base_in"] = (net.horizontal_base_in
+                                           - prescribed.horizontal_base_in)
+    return found
+
+
+def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
+    parts = _prism_at_point(case, point)
     result: dict[str, Any] = {"name": point.name}
     result["position"] = {eye: point.on(eye).as_dict() for eye in EYES}
     for eye in EYES:
@@ -126,30 +143,16 @@ def evaluate_point(case: Case, point: GazePoint) -> dict[str, Any]:
             "from_thinning": part.from_thinning.as_dict(eye),
         }
         result[eye] = entry
-    # The induced part: the total net minus the net of the prescribed prism, which is
-    # the wearer's correction and not an imbalance (docs/case-format.md, "Output").
-    prescribed = NetPrism.between(parts["right"].prescribed, parts["left"].prescribed)
-    result["net"] = net.as_dict()
-    result["net"]["induced_vertical_base_up_right"] = (net.vertical_base_up_right
-                                                       - prescribed.vertical_base_up_right)
-    result["net"]["induced_horizontal_base_in"] = (net.horizontal_base_in
-                                                   - prescribed.horizontal_base_in)
+    result["net"] = _net_with_induced(parts)
     return result
 
 
 def point_totals_at(case: Case, point: GazePoint) -> dict[str, Any]:
     """``evaluate_point`` without the position, zones and parts: the name, each eye's
     total and the net (the same numbers), for ``point_totals``."""
-    totals = {eye: case.lens(eye).prism_at(point.on(eye), eye) for eye in EYES}
-    net = NetPrism.between(totals["right"].total, totals["left"].total)
-    prescribed = NetPrism.between(totals["right"].prescribed, totals["left"].prescribed)
-    found = net.as_dict()
-    found["induced_vertical_base_up_right"] = (net.vertical_base_up_right
-                                               - prescribed.vertical_base_up_right)
-    found["induced_horizontal_base_in"] = (net.horizontal_base_in
-                                           - prescribed.horizontal_base_in)
-    return {"name": point.name, "right": totals["right"].total.as_dict("right"),
-            "left": totals["left"].total.as_dict("left"), "net": found}
+    parts = _prism_at_point(case, point)
+    return {"name": point.name, "right": parts["right"].total.as_dict("right"),
+            "left": parts["left"].total.as_dict("left"), "net": _net_with_induced(parts)}
 
 
 def describe_lens(lens: Lens, eye: Eye) -> dict[str, Any]:

@@ -216,3 +216,23 @@ def test_notices_never_cover_a_field_or_the_answer(phone, site):
     page.evaluate("() => { localStorage.removeItem('prism-desk.store.unreadable'); }")
     kept = json.loads(page.evaluate("() => localStorage.getItem('prism-desk.store')"))
     assert kept["schema"] == 2
+
+
+@pytest.fixture(scope="module")
+def tablet(browser: Any, site: Site) -> Any:
+    yield from ready_app(browser, site, viewport={"width": 768, "height": 1024})
+
+
+@pytest.mark.parametrize(("tab", "fields", "results", "figure"), [
+    ("verify", VERIFY_FIELDS, "#vf-results", "#vf-answer .verdict-word"),
+    ("deviation", DEVIATION_FIELDS, "#dv-results", "#dv-band .band-figure"),
+])
+def test_check_answers_in_a_portrait_tablets_first_viewport(tablet, tab, fields, results,
+                                                             figure):
+    page = tablet
+    page.click(f"#tab-{tab}")
+    fill(page, fields)
+    wait_for(page, results)
+    page.evaluate("() => window.scrollTo(0, 0)")
+    assert in_view(page, figure), f"{figure} not in a 768 x 1024 first viewport"
+    assert too_wide(page) == []
