@@ -161,8 +161,9 @@ def test_the_lazy_list_names_every_import_on_first_use() -> None:
 
 def test_a_first_case_result_loads_no_check_or_document_module() -> None:
     """The worker imports the bridge, then evaluates a case: the ready-made readers,
-    deviations, batch runs, document kinds and text summaries stay unloaded until asked
-    for, and preload loads every one."""
+    deviations, batch runs, document kinds, text summaries and the tolerance tables (read
+    only for a case that carries a finished pair's measurements) stay unloaded until
+    asked for, and preload loads every one."""
     import json
     import subprocess
     import sys
@@ -182,7 +183,9 @@ def test_a_first_case_result_loads_no_check_or_document_module() -> None:
                           capture_output=True, text=True)
     before, after = json.loads(done.stdout)
     for name in ("pycore.checks.readers", "pycore.checks.reader_stock", "pycore.checks.deviation",
-                 "pycore.documents.batch", "pycore.documents.kinds", "pycore.documents.summary"):
+                 "pycore.documents.batch", "pycore.documents.kinds", "pycore.documents.summary",
+                 "pycore.checks.verification_input", "pycore.checks.tolerances",
+                 "pycore.documents.datafiles"):
         assert name not in before and name in after, name
     from pycore.interfaces import actions
 

@@ -14,7 +14,6 @@ from dataclasses import dataclass, field
 from functools import partial
 from typing import Any, TypeVar
 
-from pycore.checks.verification_input import read_section as read_verification_section
 from pycore.documents.fields import as_object as _object
 from pycore.documents.fields import only_keys as _only_keys
 from pycore.documents.fields import read_prism as read_prism
@@ -79,6 +78,15 @@ class Case:
 
 
 # --------------------------------------------------------------------------- sections
+
+def read_verification_section(value: Any, path: str) -> Any:
+    """A finished pair's measurements (``pycore.checks.verification_input``). Imported
+    here, on the first case that carries them, so that reading an ordinary case never
+    loads the tolerance tables: in the browser that keeps them out of the first result."""
+    from pycore.checks.verification_input import read_section
+
+    return read_section(value, path)
+
 
 SECTIONS: dict[str, Callable[[Any, str], Any]] = {
     "reading_zone": read_reading_zone,
