@@ -396,7 +396,7 @@ def build() -> None:
     bundle(tmp)
     html = tmp / "index.html"
     html.write_text(page_html(html.read_text()))
-    (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
+    (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), separators=(",", ":")) + "\n")
     write_icons(tmp / "icons")
     version, count = write_service_worker(tmp)
     tmp.chmod(0o755)
