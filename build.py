@@ -131,7 +131,64 @@ def strip_python(source: str) -> str:
             for arg in [*args.posonlyargs, *args.args, *args.kwonlyargs,
                         *(a for a in (args.vararg, args.kwarg) if a is not None)]:
                 arg.annotation = None
-    return _one_space_indents(ast.unparse(tree)) + "\n"
+    written = ast.unparse(tree)
+    tight = _tight_spacing(written)
+    if ast.dump(ast.parse(tight)) != ast.dump(ast.parse(written)):   # never expected
+        tight = written
+    return _one_space_indents(tight) + "\n"
+
+
+def _tight_spacing(source: str) -> str:
+    """The same tokens with a space between two only where they would otherwise run
+    together (two words, a number and what follows, a name and a string: ``x=a+b``,
+    ``return(x)``); indentation and each f-string are kept as written."""
+    import io
+    import tokenize
+
+    starts = [0]
+    for line in source.splitlines(keepends=True):
+        starts.append(starts[-1] + len(line))
+
+    def at(row_col: tuple[int, int]) -> int:
+        return starts[row_col[0] - 1] + row_col[1]
+
+    out: list[str] = []
+    prev: tuple[int, str] | None = None   # (token type, text) before this one on its line
+    depth, begun = 0, (0, 0)
+    for tok in tokenize.generate_tokens(io.StringIO(source).readline):
+        kind, text, start = tok.type, tok.string, tok.start
+        name = tokenize.tok_name[kind]
+        if name == "FSTRING_START" or depth:   # Python 3.12+ splits f-strings into tokens
+            depth += {"FSTRING_START": 1, "FSTRING_END": -1}.get(name, 0)
+            begun = start if name == "FSTRING_START" and depth == 1 else begun
+            if depth:
+                continue
+            kind, text, start = tokenize.STRING, source[at(begun):at(tok.end)], begun
+        if kind in (tokenize.INDENT, tokenize.DEDENT, tokenize.ENDMARKER):
+            continue
+        if kind in (tokenize.NEWLINE, tokenize.NL):
+            out.append("\n")
+            prev = None
+            continue
+        if prev is None:
+            out.append(source[at((start[0], 0)):at(start)])   # the line's indentation
+        elif _run_together(prev, kind, text):
+            out.append(" ")
+        out.append(text)
+        prev = (kind, text)
+    return "".join(out)
+
+
+def _run_together(prev: tuple[int, str], kind: int, text: str) -> bool:
+    """Whether two tokens written with nothing between them would read differently."""
+    import tokenize
+
+    def word(char: str) -> bool:
+        return char.isalnum() or char == "_"
+    prev_kind, prev_text = prev
+    return ((word(prev_text[-1]) and word(text[0]))
+            or (prev_kind == tokenize.NUMBER and (word(text[0]) or text[0] == "."))
+            or (prev_kind == tokenize.NAME and kind == tokenize.STRING))
 
 
 def _one_space_indents(source: str) -> str:
@@ -339,7 +396,7 @@ def build() -> None:
     bundle(tmp)
     html = tmp / "index.html"
     html.write_text(page_html(html.read_text()))
-    (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), indent=1) + "\n")
+    (tmp / "manifest.webmanifest").write_text(json.dumps(manifest(), separators=(",", ":")) + "\n")
     write_icons(tmp / "icons")
     version, count = write_service_worker(tmp)
     tmp.chmod(0o755)

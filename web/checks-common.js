@@ -2,10 +2,11 @@
 // inputs, collecting them into the action's payload, drafts in localStorage,
 // one calculation at a time per screen, and figures with data-key/data-value.
 // Nothing here computes optics: every figure shown comes from the core's answer.
-import { el } from "./results.js";
+import { el, get } from "./results.js";
+import { fixed } from "./zone-common.js";
 import { pathInWords, refusalMessage, toValue } from "./form.js";
 
-export { el };
+export { el, fixed, get };
 
 const DRAFT_PREFIX = "prism-desk.checks.";
 const DEBOUNCE_MS = 200;
@@ -54,10 +55,6 @@ export function restoreFormDraft(name, form) {
 }
 
 // ---------------------------------------------------------------- figures
-export function get(obj, path) {
-  return path.split(".").reduce((o, k) => (o === null || o === undefined ? undefined : o[k]), obj);
-}
-
 // One figure from the answer: rounded text, the exact value in data-value.
 export function fig(result, key, format, cls = "fig") {
   const value = get(result, key);
@@ -68,11 +65,6 @@ export function fig(result, key, format, cls = "fig") {
   return node;
 }
 
-// Rounded for the screen; a value that rounds to zero is shown without a sign.
-export const fixed = (digits) => (v) => {
-  const text = v.toFixed(digits);
-  return /^-0\.?0*$/.test(text) ? text.slice(1) : text;
-};
 export const signed = (digits) => (v) => {
   const text = fixed(digits)(v);
   return /^[1-9]|^0\.0*[1-9]/.test(text) ? "+" + text : text;

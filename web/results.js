@@ -19,12 +19,12 @@ export function el(tag, attrs = {}, ...children) {
   return node;
 }
 
-function get(obj, path) {
+export function get(obj, path) {
   return path.split(".").reduce((o, k) => (o === null || o === undefined ? undefined : o[k]), obj);
 }
 
 // One figure: the rounded text, with the exact value alongside.
-function fig(result, key, format, cls = "fig") {
+export function fig(result, key, format, cls = "fig") {
   const value = get(result, key);
   if (value === undefined || value === null) return null;
   const node = el("span", { class: cls, "data-key": key, "data-value": String(value) });

@@ -2,9 +2,9 @@
 // remedies.js). Display only: every number shown comes from the core's answer;
 // these functions round it for the screen and tag it with data-key (its dotted
 // path in the evaluate result) and data-value (the number as the core gave it).
-import { el } from "./results.js";
+import { el, fig, get } from "./results.js";
 
-export { el };
+export { el, fig, get };
 
 export const SVG_NS = "http://www.w3.org/2000/svg";
 
@@ -19,22 +19,9 @@ export function svg(tag, attrs = {}, ...children) {
   return node;
 }
 
-export function get(obj, path) {
-  return path.split(".").reduce((o, k) => (o === null || o === undefined ? undefined : o[k]), obj);
-}
-
-// One figure from the result: the rounded text, with the exact value alongside.
-export function fig(result, key, format, cls = "fig") {
-  const value = get(result, key);
-  if (value === undefined || value === null) return null;
-  const node = el("span", { class: cls, "data-key": key, "data-value": String(value) });
-  node.textContent = format ? format(value) : String(value);
-  return node;
-}
-
-const clean = (v) => (Object.is(v, -0) ? 0 : v);
+// Rounded for the screen; a value that rounds to zero is shown without a sign ((-0).toFixed() has none).
 export const fixed = (digits) => (v) => {
-  const text = clean(v).toFixed(digits);
+  const text = v.toFixed(digits);
   return /^-0\.?0*$/.test(text) ? text.slice(1) : text;
 };
 export const mm = (v) => fixed(1)(v) + " mm";

@@ -21,7 +21,6 @@ from pycore.evaluate import LIVE_SECTIONS, SECTIONS, evaluate
 from pycore.interfaces import actions
 from pycore.optics.eyes import EYES, Eye
 from pycore.optics.notation import (
-    parse_prism,
     parse_sphere,
     parse_written,
     written_prism,
@@ -149,15 +148,6 @@ def _optional_eye(payload: Any) -> Eye | None:
     return "right" if eye == "right" else "left"
 
 
-def _describe_prism(payload: Any) -> dict[str, Any]:
-    text = _field(payload, "text")
-    eye = _field(payload, "eye")
-    if eye not in EYES:
-        raise CaseError("eye", "eye must be right or left.", eye)
-    chosen: Eye = "right" if eye == "right" else "left"
-    return parse_prism(text, chosen, "text").as_dict(chosen)
-
-
 def _field(payload: Any, key: str) -> Any:
     if not isinstance(payload, dict) or key not in payload:
         raise CaseError(key, f"{key} is missing from the request.")
@@ -173,7 +163,6 @@ ACTIONS: dict[str, Action] = {
     "open_remedy": _open_remedy,
     "summary_text": _summary,
     "describe_prescription": _describe_prescription,
-    "describe_prism": _describe_prism,
     "describe_sphere": _describe_sphere,
     "reading_zone": actions.reading_zone,
     "apply_remedy": actions.apply_remedy,
