@@ -17,6 +17,8 @@ import math
 from typing import Any
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from pycore.documents.cases import read_case
 from pycore.errors import CaseError
@@ -231,6 +233,24 @@ def test_prescriptions_written_the_trade_way() -> None:
     assert Prescription(2, -0.75, 89.5).written() == "+2.00 / -0.75 x 90"
     assert written_sphere(0.0) == "plano" and written_sphere(-0.0) == "plano"
     assert written_axis(0.4) == "180" and written_axis(179.5) == "180"
+
+
+@settings(max_examples=3000, deadline=None)
+@given(st.floats(allow_nan=False, allow_infinity=False, min_value=-1e6, max_value=1e6)
+       | st.integers(-40000, 40000).map(lambda n: n / 1000)
+       | st.integers(-4000, 4000).map(lambda n: n / 200))
+def test_written_figures_round_as_decimal_does(value: float) -> None:
+    """Powers and axes are rounded half up in integers; Python's decimal module
+    (ROUND_HALF_UP on the shortest decimal form, the General Decimal Arithmetic
+    specification) is the independent reference. Thousandths and exact halves of a
+    hundredth are where half up and float rounding part."""
+    from decimal import ROUND_HALF_UP, Decimal
+
+    exact = Decimal(repr(value)).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP)
+    assert written_dioptres(value) == ("+0.00" if exact == 0 else f"{exact:+.2f}")
+    if 0 <= value <= 180:
+        whole = int(Decimal(repr(value)).quantize(Decimal("1"), rounding=ROUND_HALF_UP))
+        assert written_axis(value) == str(180 if whole == 0 else whole)
 
 
 # --------------------------------------------------------------------------- in a case

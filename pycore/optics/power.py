@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from decimal import ROUND_HALF_UP, Decimal
 from functools import cached_property, lru_cache
 
 from pycore.validation import in_range
@@ -127,15 +126,33 @@ def _is_zero(value: float) -> bool:
     return abs(value) < 0.005
 
 
+def _scaled_half_up(value: float, places: int) -> int:
+    """``value`` as written by ``repr`` (its shortest decimal form), times ten to the
+    ``places``, rounded half away from zero: exactly what ``decimal``'s ROUND_HALF_UP
+    gives, in integers (so the browser's first result need not load ``decimal``)."""
+    text = repr(float(value))
+    sign = -1 if text[0] == "-" else 1
+    mantissa, _, exponent = text.lstrip("-").partition("e")
+    whole, _, fraction = mantissa.partition(".")
+    digits = int(whole + fraction)
+    shift = int(exponent or 0) - len(fraction) + places   # scaled value = digits * 10**shift
+    unit: int = 10 ** abs(shift)
+    if shift >= 0:
+        return sign * digits * unit
+    kept, left = divmod(digits, unit)
+    return sign * (kept + (2 * left >= unit))
+
+
 @lru_cache(maxsize=32)
 def written_dioptres(value: float) -> str:
     """A power the trade's way: sign always, two decimals, half up (``+1.00``,
     ``-0.13``); zero is ``+0.00``, never ``-0.00``. (The last few are kept: a lens
     writes the same powers at every keystroke that leaves it alone.)"""
-    rounded = Decimal(repr(float(value))).quantize(Decimal("0.01"), rounding=ROUND_HALF_UP)
-    if rounded == 0:
+    hundredths = _scaled_half_up(value, 2)
+    if hundredths == 0:
         return "+0.00"
-    return f"{rounded:+.2f}"
+    whole, cents = divmod(abs(hundredths), 100)
+    return f"{'+' if hundredths > 0 else '-'}{whole}.{cents:02d}"
 
 
 def written_sphere(value: float) -> str:
@@ -147,5 +164,5 @@ def written_sphere(value: float) -> str:
 @lru_cache(maxsize=32)
 def written_axis(axis: float) -> str:
     """An axis as a whole number of degrees, half up, 180 for 0 (common practice)."""
-    whole = int(Decimal(repr(float(axis))).quantize(Decimal("1"), rounding=ROUND_HALF_UP))
+    whole = _scaled_half_up(axis, 0)
     return str(180 if whole == 0 else whole)
