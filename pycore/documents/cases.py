@@ -98,12 +98,27 @@ they hold is kept in ``Case.extras`` under the same key."""
 _TOP_KEYS = ("right", "left", "points", "fitting", "frame", "name", "notes", "schema")
 
 
-def read_case(document: Any) -> Case:
-    """A validated Case from a parsed JSON document."""
+def read_case(document: Any, known: Case | None = None) -> Case:
+    """A validated Case from a parsed JSON document.
+
+    ``known``: a case already read whose document the core copied and edited to make
+    ``document`` (a remedy's finished case). A part equal to the same part of
+    ``known``'s document (the fitting, a lens with the same fitting height, the frame,
+    the points, a further section) is taken from ``known`` as read then: the strict
+    reader reads only what the edit changed, with the same refusals."""
     obj = _object(document, "", "the case")
     _only_keys(obj, "", (*_TOP_KEYS, *SECTIONS))
     obj = fold_reading_depth(obj)
-    fitting = _read_kept(read_fitting, obj["fitting"], "fitting") if "fitting" in obj else None
+    before: Mapping[str, Any] = known.document if known is not None else {}
+
+    def same(key: str) -> bool:
+        return key in obj and key in before and obj[key] == before[key]
+
+    fitting = None
+    if known is not None and same("fitting"):
+        fitting = known.fitting
+    elif "fitting" in obj:
+        fitting = _read_kept(read_fitting, obj["fitting"], "fitting")
     lenses = {}
     for eye in EYES:
         if eye not in obj:
@@ -112,10 +127,18 @@ def read_case(document: Any) -> Case:
         height = None
         if fitting is not None:
             height = (fitting.right if eye == "right" else fitting.left).height_mm
-        lenses[eye] = _read_lens_kept(obj[eye], eye, height)
-    frame = read_frame(obj["frame"], "frame") if "frame" in obj else None
+        if known is not None and same(eye) and height == _height(known, eye):
+            lenses[eye] = known.lens(eye)
+        else:
+            lenses[eye] = _read_lens_kept(obj[eye], eye, height)
+    frame = None
+    if known is not None and same("frame"):
+        frame = known.frame
+    elif "frame" in obj:
+        frame = read_frame(obj["frame"], "frame")
     if "points" in obj:
-        points = read_points(obj["points"], "points", fitting)
+        points = (known.points if known is not None and same("points")
+                  and fitting is known.fitting else read_points(obj["points"], "points", fitting))
     elif fitting is not None:
         points = FITTING_POINTS
     else:
@@ -125,10 +148,19 @@ def read_case(document: Any) -> Case:
     _text(obj.get("notes", ""), "notes", 2000)
     if "schema" in obj:
         in_range(obj["schema"], "schema", 1, 1)
-    extras = {key: (_read_kept(reader, obj[key], key) if key == "reading_zone"
+    extras = {key: (known.extras[key] if known is not None and same(key)
+                    and key in known.extras else
+                    _read_kept(reader, obj[key], key) if key == "reading_zone"
                     else reader(obj[key], key))
               for key, reader in SECTIONS.items() if key in obj}
     return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
+
+
+def _height(case: Case, eye: Eye) -> float | None:
+    """The fitting height ``case``'s lens before ``eye`` was read with (mm), if any."""
+    if case.fitting is None:
+        return None
+    return (case.fitting.right if eye == "right" else case.fitting.left).height_mm
 
 
 def read_case_text(text: str | bytes) -> Case:
@@ -142,6 +174,9 @@ _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "sl
 _KEPT_PARTS: OrderedDict[tuple[str, str, tuple[Any, ...]], Any] = OrderedDict()
 _KEPT = 16
 """How many parts of cases read lately are kept (both lenses and the fitting of a few)."""
+_KEY_TEXT = json.JSONEncoder(sort_keys=True, allow_nan=False)
+"""A kept part's key: its JSON text, keys sorted (json.dumps with these settings, without
+making an encoder for every part)."""
 
 
 def _read_kept(read: Callable[..., T], value: Any, *args: Any) -> T:
@@ -149,7 +184,7 @@ def _read_kept(read: Callable[..., T], value: Any, *args: Any) -> T:
     lens while a person edits one, the lens and fitting a remedy leaves alone): what
     the readers make is immutable. Refusals are not kept: they are said each time."""
     try:
-        key = (read.__name__, json.dumps(value, sort_keys=True, allow_nan=False), args)
+        key = (read.__name__, _KEY_TEXT.encode(value), args)
     except (TypeError, ValueError):
         return read(value, *args)
     if key in _KEPT_PARTS:

@@ -3,7 +3,8 @@ keys, the figures such a document gives at distance and at the reading point, an
 the record of one remedy (``Remedy``) that the remedy modules fill in.
 
 Every remedy's ``applied_case`` is built here and read back through the same
-strict reader as any other case, so evaluating it gives the finished figures.
+strict reader as any other case (what the remedy left as it was is taken from the
+case read already), so evaluating it gives the finished figures.
 
 Prescribed prism is the wearer's correction and no remedy changes it: the
 imbalance a remedy corrects is the induced part (total net minus the net of the
@@ -65,9 +66,23 @@ class Figures:
         return self.near_vertical - self.prescribed.vertical_base_up_right
 
 
+_PLAIN: list[tuple[Case, dict[str, Any]]] = []
+"""The last case's document as plain data: copied once per case, not once per remedy."""
+
+
 def copy_document(case: Case) -> dict[str, Any]:
-    """A copy of the case's document to edit (plain JSON data; a -0.0 becomes 0.0)."""
-    copied: dict[str, Any] = _plain_copy(case.document)
+    """A copy of the case's document to edit (plain JSON data; a -0.0 becomes 0.0).
+
+    The top level and each eye's lens are new dicts: the remedies edit there, by putting
+    a new value under a key (a new ``slab_off``, ``segment``, ``prism``, ``fitting`` or
+    ``reading_zone``), never by changing a value in place. The values below those are
+    shared with the other copies of the same case's document, and are not to be edited."""
+    if not (_PLAIN and _PLAIN[0][0] is case):
+        _PLAIN[:] = [(case, _plain_copy(case.document))]
+    copied = dict(_PLAIN[0][1])
+    for eye in EYES:
+        if isinstance(copied.get(eye), dict):
+            copied[eye] = dict(copied[eye])
     return copied
 
 
@@ -146,21 +161,24 @@ def set_points(document: dict[str, Any], names: tuple[str, ...],
     document["points"] = points
 
 
-def finished(document: dict[str, Any]) -> Case:
-    """The document read back as a case (it must pass the same validation as any input)."""
-    return read_case(document)
+def finished(document: dict[str, Any], original: Case) -> Case:
+    """The document, a copy of ``original``'s edited by a remedy, read back as a case:
+    what the remedy changed passes the same validation as any input; the parts it left
+    as they were are ``original``'s, read already (pycore.documents.cases.read_case)."""
+    return read_case(document, original)
 
 
-def with_written_points(document: dict[str, Any], names: tuple[str, ...]) -> Case:
-    """Give the document its points (by name with a fitting, written out without one)
-    and read it back."""
+def with_written_points(document: dict[str, Any], names: tuple[str, ...],
+                        original: Case) -> Case:
+    """Give the document (a copy of ``original``'s) its points (by name with a fitting,
+    written out without one) and read it back."""
     if "fitting" in document:
         set_points(document, names)
-        return finished(document)
+        return finished(document, original)
     document["points"] = [{"name": "placeholder", "right": {}, "left": {}}]
-    geometry = reading_geometry(finished(document))
+    geometry = reading_geometry(finished(document, original))
     set_points(document, names, {name: geometry for name in names})
-    return finished(document)
+    return finished(document, original)
 
 
 @dataclass
@@ -263,7 +281,8 @@ def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
             # Nothing changed: the finished case is the case itself, evaluated already.
             figures = baseline.figures
         else:
-            figures = Figures.of(finished(document), baseline.figures.prescribed)
+            figures = Figures.of(finished(document, baseline.case),
+                                    baseline.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:

@@ -56,7 +56,7 @@ def near_prism_split(base: Baseline) -> Remedy:
     options = base.options
     document = _near_only_document(base, "reading_spectacles")
     try:
-        plain = Figures.of(with_written_points(document, ("near",)),
+        plain = Figures.of(with_written_points(document, ("near",), base.case),
                            base.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The near-only spectacles cannot be worked out: {exc.message}")
@@ -97,7 +97,7 @@ def reading_spectacles(base: Baseline) -> Remedy:
     remedy.centring = NEAR_CENTRING
     document = _near_only_document(base, "reading_spectacles")
     try:
-        with_written_points(document, ("near",))
+        with_written_points(document, ("near",), base.case)
     except CaseError as exc:
         return remedy.refuse(f"The reading spectacles cannot be worked out: {exc.message}")
     case, geometry = base.case, base.figures.geometry
@@ -143,7 +143,7 @@ def contact_lenses(base: Baseline) -> Remedy:
     set_section(document, worn_as="contact_lenses", reading_point="distance_reference",
                 reading_depth_mm=base.figures.geometry.reading_drop_mm)
     try:
-        with_written_points(document, ("distance", "near"))
+        with_written_points(document, ("distance", "near"), base.case)
     except CaseError as exc:
         return remedy.refuse(f"The contact-lens case cannot be worked out: {exc.message}")
     remedy.summary = ("Contact lenses move with the eyes, so the eyes always look through "
