@@ -69,21 +69,26 @@ def _describe(kind: str, error: float) -> str:
     return f"the {eye} lens centred {amount} too {way}"
 
 
+_DESCRIPTIONS = {(kind, error): _describe(kind, error) for kind in _KINDS for error in ERRORS_MM}
+"""Each row's description, written once."""
+
+
 def sensitivity(case: Case, geometry: ReadingGeometry, threshold: float) -> dict[str, Any]:
     """The table of errors and the warnings it gives rise to."""
-    samplers = {eye: LensSampler(case.lens(eye), eye) for eye in EYES}
+    right_at = LensSampler(case.right, "right").at
+    left_at = LensSampler(case.left, "left").at
     places = {"distance": 0.0, "near": geometry.reading_drop_mm}
-    coords = {(eye, drop): geometry.coords(eye, drop) for eye in EYES for drop in places.values()}
+    coords = {drop: (geometry.coords("right", drop), geometry.coords("left", drop))
+              for drop in places.values()}
 
     def net(drop: float, moved: tuple[Eye, ...], shift: tuple[float, float],
             error: float) -> tuple[float, float]:
-        values = {}
-        for eye in EYES:
-            in_mm, up_mm = coords[eye, drop]
-            if eye in moved:
-                in_mm, up_mm = in_mm + shift[0] * error, up_mm + shift[1] * error
-            values[eye] = samplers[eye].at(in_mm, up_mm)
-        right, left = values["right"], values["left"]
+        (right_in, right_up), (left_in, left_up) = coords[drop]
+        if "right" in moved:
+            right_in, right_up = right_in + shift[0] * error, right_up + shift[1] * error
+        if "left" in moved:
+            left_in, left_up = left_in + shift[0] * error, left_up + shift[1] * error
+        right, left = right_at(right_in, right_up), left_at(left_in, left_up)
         return right[1] - left[1], right[0] + left[0]
 
     nominal = {place: net(drop, (), (0.0, 0.0), 0.0) for place, drop in places.items()}
@@ -99,7 +104,7 @@ def sensitivity(case: Case, geometry: ReadingGeometry, threshold: float) -> dict
         horizontal_two_mm = 0.0
         for error in ERRORS_MM:
             row: dict[str, Any] = {"kind": kind, "error_mm": error,
-                                   "description": _describe(kind, error)}
+                                   "description": _DESCRIPTIONS[kind, error]}
             for place, drop in places.items():
                 vertical, horizontal = net(drop, moved, shift, error)
                 base_v, base_h = nominal[place]
@@ -112,7 +117,7 @@ def sensitivity(case: Case, geometry: ReadingGeometry, threshold: float) -> dict
                 if abs(error) == 2.0:
                     horizontal_two_mm = max(horizontal_two_mm, abs(horizontal - base_h))
                 if abs(base_v - prescribed) < threshold <= abs(vertical - prescribed):
-                    crossing.append(f"{_describe(kind, error)} ({place})")
+                    crossing.append(f"{_DESCRIPTIONS[kind, error]} ({place})")
             rows.append(row)
         matters = [f"{_place_words(place)} by {fixed(change)}"
                    for place, change in worst_per_mm.items()
