@@ -11,7 +11,11 @@ of zero) as the slower path it replaced.
 - the quick JSON reader gives the document the careful reader (a check per value)
   gives, and declines every document the careful reader refuses;
 - ``Prism.trusted`` is the checked ``Prism``; a lens read lately and kept is the lens
-  read afresh, and a refusal is said again each time.
+  read afresh, and a refusal is said again each time;
+- a remedy's finished case read with the case it came from (``read_case(document,
+  known)``: the parts the remedy left alone taken as read already) is the finished case
+  read afresh, and an edit the strict reader refuses is refused with the same words;
+  the copies of a case's document that the remedies edit leave the case's own alone.
 """
 
 from __future__ import annotations
@@ -33,6 +37,7 @@ from pycore.optics.prism import Prism
 from pycore.reading.imbalance_map import NetSampler, _steps
 from pycore.reading.options import options_of
 from pycore.reading.reading_point import reading_geometry
+from pycore.reading.remedies.finished_case import copy_document
 from pycore.rounding import without_negative_zero
 from pycore.spectacles.sampler import LensSampler
 
@@ -228,3 +233,61 @@ def test_a_kept_lens_is_the_lens_read_afresh(document: dict[str, Any],
         return
     assert _read_lens_kept(copy.deepcopy(value), "right", height) == fresh
     assert _read_lens_kept(copy.deepcopy(value), "right", height) == fresh
+
+
+@settings(max_examples=40, deadline=None)
+@given(cases())
+def test_a_finished_case_read_with_its_original_is_read_afresh(
+        document: dict[str, Any]) -> None:
+    case = _case_or_none(document)
+    if case is None:
+        return
+    try:
+        result = evaluate(case)
+    except CaseError:
+        return
+    remedies = result["remedies"]
+    for entry in remedies["options"] if remedies is not None else []:
+        applied = entry["applied_case"]
+        if applied is None:
+            continue
+        assert read_case(copy.deepcopy(applied), case) == read_case(copy.deepcopy(applied))
+
+
+@settings(max_examples=40, deadline=None)
+@given(cases(), st.sampled_from([("right", "slab_off", {"base_up": 99.0, "line_mm": -3.0}),
+                                 ("left", "add", -1.0),
+                                 ("fitting", "right", {"mono_pd_mm": 5.0}),
+                                 ("reading_zone", "worn_as", "goggles")]))
+def test_an_edit_refused_afresh_is_refused_with_the_original(
+        document: dict[str, Any], edit: tuple[str, str, Any]) -> None:
+    case = _case_or_none(document)
+    if case is None:
+        return
+    part, key, value = edit
+    edited = copy_document(case)
+    edited[part] = {**edited.get(part, {}), key: value}
+    with pytest.raises(CaseError) as afresh:
+        read_case(copy.deepcopy(edited))
+    with pytest.raises(CaseError) as known:
+        read_case(edited, case)
+    assert (known.value.field, known.value.message) == (afresh.value.field,
+                                                        afresh.value.message)
+
+
+@settings(max_examples=30, deadline=None)
+@given(cases())
+def test_edited_copies_leave_the_case_document_alone(document: dict[str, Any]) -> None:
+    case = _case_or_none(document)
+    if case is None:
+        return
+    before = json.dumps(case.document, sort_keys=True)
+    first, second = copy_document(case), copy_document(case)
+    for eye in ("right", "left"):
+        first[eye]["slab_off"] = {"base_up": 1.0, "line_mm": -4.0}
+        first[eye].pop("prism", None)
+    first["reading_zone"] = {"worn_as": "contact_lenses"}
+    first["points"] = ["near"]
+    assert json.dumps(case.document, sort_keys=True) == before
+    assert json.dumps(second, sort_keys=True) == json.dumps(copy_document(case), sort_keys=True)
+    assert second["right"] is not first["right"] and second["left"] is not first["left"]

@@ -28,7 +28,7 @@ from __future__ import annotations
 from typing import Any
 
 from pycore.documents.cases import Case
-from pycore.optics.eyes import EYES, Eye
+from pycore.optics.eyes import Eye
 from pycore.reading.imbalance_map import prescribed_net
 from pycore.reading.reading_point import ReadingGeometry
 from pycore.rounding import fixed
