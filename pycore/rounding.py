@@ -15,9 +15,15 @@ _HALF_SLACK = 1e-9
 """Relative slack for binary fractions just under a half (far below any lab step)."""
 
 
+def half_up_steps(value: float, step: float) -> int:
+    """How many whole ``step``s ``abs(value)`` rounds to, halves up (``half_up`` of it is
+    that many steps: the two order values alike)."""
+    return math.floor(abs(value) / step + 0.5 + _HALF_SLACK)
+
+
 def half_up(value: float, step: float) -> float:
     """``value`` to the nearest multiple of ``step``, halves away from zero; never -0.0."""
-    steps = math.floor(abs(value) / step + 0.5 + _HALF_SLACK)
+    steps = half_up_steps(value, step)
     rounded = math.copysign(steps * step, value)
     return rounded + 0.0 if rounded else 0.0
 

@@ -7,7 +7,8 @@ of zero) as the slower path it replaced.
   IEEE 754 round-to-nearest makes -0.0 + 0.0 = +0.0, which the sources rely on;
 - the map's rows (``NetSampler.row``, ``LensSampler.unprescribed_row``: the prism is
   linear across a row within one zone, Prentice's rule) are the cells sampled one by
-  one (``NetSampler.at``, ``LensSampler.unprescribed_at``);
+  one (``NetSampler.at``, ``LensSampler.unprescribed_at``), and the induced vertical
+  alone (``NetSampler.induced_vertical_at``) is the one ``at`` gives;
 - the quick JSON reader gives the document the careful reader (a check per value)
   gives, and declines every document the careful reader refuses;
 - ``Prism.trusted`` is the checked ``Prism``; a lens read lately and kept is the lens
@@ -216,6 +217,21 @@ def test_trusted_prism_is_the_checked_prism(base_in: float, base_up: float) -> N
     assert trusted == checked
     for a, b in ((trusted.base_in, checked.base_in), (trusted.base_up, checked.base_up)):
         assert math.copysign(1.0, a) == math.copysign(1.0, b) == (1.0 if a >= 0 else -1.0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(cases(), st.floats(0.0, 30.0))
+def test_the_induced_vertical_alone_is_the_net_sampled(document: dict[str, Any],
+                                                       drop: float) -> None:
+    case = _case_or_none(document)
+    if case is None:
+        return
+    try:
+        sampler = NetSampler(case, reading_geometry(case))
+        expected = sampler.at(drop).induced_vertical
+    except CaseError:
+        return
+    assert repr(sampler.induced_vertical_at(drop)) == repr(expected)
 
 
 @settings(max_examples=40, deadline=None)

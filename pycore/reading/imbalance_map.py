@@ -73,6 +73,13 @@ class NetSampler:
                        right[1] - left[1] + self._extra_vertical,
                        right[0] + left[0] + self._extra_horizontal)
 
+    def induced_vertical_at(self, drop_mm: float) -> float:
+        """``at(drop_mm).induced_vertical`` alone (the same sum), for the searches down
+        the reading path that ask for nothing else."""
+        right = self._right.unprescribed_at(*self.geometry.coords("right", drop_mm))
+        left = self._left.unprescribed_at(*self.geometry.coords("left", drop_mm))
+        return right[1] - left[1] + self._extra_vertical
+
     def row(self, drop_mm: float, laterals: list[float]) -> tuple[list[Any], ...]:
         """``at`` for one drop and many lateral gazes, as columns: (vertical, induced
         vertical, horizontal) and each eye's zone. The same numbers as ``at`` (the
@@ -207,7 +214,7 @@ def sampled_threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: f
     that passes it (to ``step_mm`` / 4096); it can miss a crossing narrower than a step."""
 
     def over(drop: float) -> bool:
-        return abs(sampler.at(drop).induced_vertical) >= threshold
+        return abs(sampler.induced_vertical_at(drop)) >= threshold
 
     if over(0.0):
         return 0.0
@@ -240,12 +247,12 @@ def closed_form_threshold_drop_mm(sampler: NetSampler, threshold: float,
     value is the one the lens gives there (the top line counts as in the segment)."""
     breaks = sorted({drop for drop in _path_breaks(sampler, depth_mm) if 0.0 <= drop <= depth_mm})
     for start, end in itertools.pairwise(breaks):
-        if abs(sampler.at(start).induced_vertical) >= threshold:
+        if abs(sampler.induced_vertical_at(start)) >= threshold:
             return start
         crossing = _linear_crossing(sampler, start, end, threshold)
         if crossing is not None:
             return crossing
-    if abs(sampler.at(breaks[-1]).induced_vertical) >= threshold:
+    if abs(sampler.induced_vertical_at(breaks[-1])) >= threshold:
         return breaks[-1]
     return None
 
@@ -257,7 +264,7 @@ def _linear_crossing(sampler: NetSampler, start: float, end: float,
     x1, x2 = start + (end - start) / 3.0, start + 2.0 * (end - start) / 3.0
     if x2 - x1 < 1e-9:  # two breaks at the same place, to rounding: no piece between
         return None
-    y1, y2 = sampler.at(x1).induced_vertical, sampler.at(x2).induced_vertical
+    y1, y2 = sampler.induced_vertical_at(x1), sampler.induced_vertical_at(x2)
     slope = (y2 - y1) / (x2 - x1)
     if abs(y1 + slope * (start - x1)) >= threshold:
         return start  # over at once past the break (a jump at a top line or outline)

@@ -269,10 +269,11 @@ def shifted(figures: Figures, distance_vertical: float = 0.0, near_vertical: flo
 
 def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
                   distance_from_original: bool = False,
-                  closed_form: Figures | None = None) -> Remedy:
+                  closed_form: Figures | None = None, read: Case | None = None) -> Remedy:
     """The remedy with its finished case and the figures it gives: read and evaluated,
     or, when the baseline allows it and the remedy gives one, its ``closed_form`` (the
-    same figures, to rounding; tests/test_live_sections.py checks the two agree)."""
+    same figures, to rounding; tests/test_live_sections.py checks the two agree).
+    ``read``: the document read already (by ``with_written_points``, unchanged since)."""
     if closed_form is not None and not baseline.evaluate_finished:
         remedy.applied, remedy.figures = document, closed_form
         return remedy
@@ -281,8 +282,8 @@ def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
             # Nothing changed: the finished case is the case itself, evaluated already.
             figures = baseline.figures
         else:
-            figures = Figures.of(finished(document, baseline.case),
-                                    baseline.figures.prescribed)
+            figures = Figures.of(read if read is not None else finished(document, baseline.case),
+                                 baseline.figures.prescribed)
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:

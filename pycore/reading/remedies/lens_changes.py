@@ -34,7 +34,7 @@ from pycore.reading.remedies.finished_case import (
     shifted,
     with_figures,
 )
-from pycore.rounding import fixed, half_up
+from pycore.rounding import fixed, half_up, half_up_steps
 from pycore.spectacles.gaze import LENS_REACH_MM, LensPoint
 from pycore.spectacles.lens import CENTRE_MOVE_UP_MM, SLAB_OFF_LIMIT, Lens
 from pycore.spectacles.segments import SegmentOutline, image_jump
@@ -281,26 +281,26 @@ def dissimilar_segments(base: Baseline) -> Remedy:
     choices = {eye: [(made, change(eye, made), jump(eye, made)) for made in
                      (None, *[m for m in made_segments() if m != current[eye] and fits(eye, m)])]
                for eye in EYES}
-    best: tuple[Any, ...] | None = None
     near = base.near
-    for right, right_change, right_jump in choices["right"]:
-        for left, left_change, left_jump in choices["left"]:
-            if right is None and left is None:
-                continue
-            residual = near + right_change + left_change
-            changed = int(right is not None) + int(left is not None)
-            key = (half_up(abs(residual), 0.001), changed, right_jump + left_jump)
-            if best is None or key < best[0]:
-                best = (key, right, left, residual)
+    # Every pair but leaving both: (right, left, residual, how many change, their jumps).
+    pairs = [(right, left, near + right_change + left_change,
+              (right is not None) + (left is not None), right_jump + left_jump)
+             for right, right_change, right_jump in choices["right"]
+             for left, left_change, left_jump in choices["left"]
+             if right is not None or left is not None]
+    # The smallest residual to the thousandth (halves up), then the fewest changed, then
+    # the smallest jumps; the first such pair.
+    best = min(pairs, default=None,
+               key=lambda pair: (half_up_steps(pair[2], 0.001), pair[3], pair[4]))
     remedy.details = {
         "made_segments": {shape: list(sizes) for shape, sizes in MADE_SEGMENTS.items()},
         "made_segments_source": "common practice",
         "optical_centre_rules": {m.shape: m.outline.rule for m in made_segments()},
     }
-    if best is None or abs(best[3]) >= abs(base.near) - 1e-9:
+    if best is None or abs(best[2]) >= abs(base.near) - 1e-9:
         return remedy.refuse("No pair of made segments covering the reading point reduces "
                              "the induced imbalance.")
-    _key, right, left, residual = best
+    right, left, residual = best[:3]
     chosen: dict[Eye, MadeSegment | None] = {"right": right, "left": left}
     document = copy_document(case)
     entries = []

@@ -97,7 +97,7 @@ def reading_spectacles(base: Baseline) -> Remedy:
     remedy.centring = NEAR_CENTRING
     document = _near_only_document(base, "reading_spectacles")
     try:
-        with_written_points(document, ("near",), base.case)
+        read = with_written_points(document, ("near",), base.case)
     except CaseError as exc:
         return remedy.refuse(f"The reading spectacles cannot be worked out: {exc.message}")
     case, geometry = base.case, base.figures.geometry
@@ -127,7 +127,7 @@ def reading_spectacles(base: Baseline) -> Remedy:
             + f", optical centre at the near visual point ({fixed(in_mm, 1)} mm in, "
             f"{fixed(distance_up - up_mm, 1)} mm below the distance visual point)")
     remedy.order_lines = lines
-    return with_figures(remedy, document, base, distance_from_original=True)
+    return with_figures(remedy, document, base, distance_from_original=True, read=read)
 
 
 def contact_lenses(base: Baseline) -> Remedy:
@@ -143,7 +143,7 @@ def contact_lenses(base: Baseline) -> Remedy:
     set_section(document, worn_as="contact_lenses", reading_point="distance_reference",
                 reading_depth_mm=base.figures.geometry.reading_drop_mm)
     try:
-        with_written_points(document, ("distance", "near"), base.case)
+        read = with_written_points(document, ("distance", "near"), base.case)
     except CaseError as exc:
         return remedy.refuse(f"The contact-lens case cannot be worked out: {exc.message}")
     remedy.summary = ("Contact lenses move with the eyes, so the eyes always look through "
@@ -162,4 +162,4 @@ def contact_lenses(base: Baseline) -> Remedy:
         remedy.warnings.append("The prescribed prism stays the wearer's correction: contact "
                                "lenses carry it only in small vertical amounts, so it may "
                                "need spectacles worn with them; the finished case keeps it.")
-    return with_figures(remedy, document, base)
+    return with_figures(remedy, document, base, read=read)
