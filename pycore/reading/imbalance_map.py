@@ -214,7 +214,7 @@ def sampled_threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: f
     that passes it (to ``step_mm`` / 4096); it can miss a crossing narrower than a step."""
 
     def over(drop: float) -> bool:
-        return abs(sampler.induced_vertical_at(drop)) >= threshold
+        return abs(sampler.at(drop).induced_vertical) >= threshold
 
     if over(0.0):
         return 0.0
