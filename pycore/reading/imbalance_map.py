@@ -116,6 +116,22 @@ class NetSampler:
         return vertical, induced, horizontal, zones_r, zones_l
 
 
+_LAST: list[tuple[Case, ReadingGeometry, NetSampler, GazeNet, GazeNet]] = []
+"""The last case's own sampler and nets: one evaluation asks for them from the reading
+zone and from the remedies."""
+
+
+def own_nets(case: Case, geometry: ReadingGeometry) -> tuple[NetSampler, GazeNet, GazeNet]:
+    """The case's sampler (its own prescribed prism) and its nets at distance and at the
+    reading point of ``geometry`` (a case is an immutable value: the last one's are kept)."""
+    if _LAST and _LAST[0][0] is case and _LAST[0][1] is geometry:
+        return _LAST[0][2:]
+    sampler = NetSampler(case, geometry)
+    found = (sampler, sampler.at(0.0), sampler.at(geometry.reading_drop_mm))
+    _LAST[:] = [(case, geometry, *found)]
+    return found
+
+
 def prescribed_net(case: Case) -> NetPrism:
     """The net of the prism prescribed in the two lenses (prism dioptres)."""
     return NetPrism.between(case.right.prism, case.left.prism)

@@ -152,8 +152,8 @@ def _reading_geometry(case: Case) -> ReadingGeometry:
     # The inset depends on the power the eye looks through, which depends on where it
     # looks: find it with the distance power, then again with what is found there.
     for _ in range(2):
-        reading = geometry.gaze("near", drop)
-        powers = [_horizontal_power_at(case.lens(eye), reading.on(eye)) for eye in EYES]
+        powers = [_horizontal_power_at(case.lens(eye), geometry.lens_point(eye, drop))
+                  for eye in EYES]
         try:
             insets = fitting.near_insets_mm(powers[0], powers[1])
         except ValueError:

@@ -21,10 +21,10 @@ from pycore.optics.eyes import EYES, Eye
 from pycore.reading.fitting_errors import sensitivity
 from pycore.reading.imbalance_map import (
     GazeNet,
-    NetSampler,
     imbalance_map,
     last_row_mm,
     map_depth_mm,
+    own_nets,
     reading_path,
     threshold_drop_mm,
 )
@@ -145,9 +145,8 @@ def reading_zone_section(case: Case, result: dict[str, Any],
     wanted = set(parts)
     options = options_of(case)
     geometry = reading_geometry(case)
-    sampler = NetSampler(case, geometry)
+    sampler, distance, reading = own_nets(case, geometry)
     depth = map_depth_mm(case, options.map_depth_mm, geometry)
-    distance, reading = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
     crossing = threshold_drop_mm(sampler, options.threshold, depth)
     warnings = design_warnings(case, geometry)
     errors = None

@@ -22,7 +22,7 @@ from pycore.errors import CaseError
 from pycore.optics.eyes import EYES, Eye
 from pycore.optics.power import Prescription
 from pycore.optics.prism import Prism
-from pycore.reading.imbalance_map import NetSampler, prescribed_net
+from pycore.reading.imbalance_map import NetSampler, own_nets
 from pycore.reading.options import SECTION, ReadingZoneOptions
 from pycore.reading.reading_point import ReadingGeometry, reading_geometry
 from pycore.rounding import half_up
@@ -49,9 +49,13 @@ class Figures:
         """The figures of ``case``; ``prescribed`` (default the case's own) is the net of
         the prescribed prism the induced parts are measured from."""
         geometry = reading_geometry(case)
-        base = prescribed if prescribed is not None else prescribed_net(case)
-        sampler = NetSampler(case, geometry, base)
-        distance, near = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
+        if prescribed is None:
+            sampler, distance, near = own_nets(case, geometry)
+            base = sampler.prescribed
+        else:
+            base = prescribed
+            sampler = NetSampler(case, geometry, base)
+            distance, near = sampler.at(0.0), sampler.at(geometry.reading_drop_mm)
         return cls(distance.vertical, distance.horizontal, near.vertical, near.horizontal,
                    geometry, base)
 
