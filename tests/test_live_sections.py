@@ -1,6 +1,7 @@
 """The live request and the sections on demand: the answer band's figures agree with
 the whole result, unchanged inputs are not computed again, the threshold depth in
-closed form agrees with sampling and bisection, and the remedies' closed-form figures
+closed form agrees with sampling and bisection (lenses without a progressive, and two
+progressives of one design and add), and the remedies' closed-form figures
 agree with their finished cases read and evaluated.
 
 References outside the closed forms: the sampled-and-bisected depth
@@ -289,6 +290,49 @@ def _valid(document: dict[str, Any]) -> tuple[NetSampler, float, float]:
 def test_closed_form_depth_agrees_with_sampling_and_bisection(document: dict[str, Any]) -> None:
     sampler, threshold, depth = _valid(document)
     assert sampler.piecewise_linear
+    _agrees_with_sampling(sampler, threshold, depth)
+
+
+@st.composite
+def progressive_pairs(draw: st.DrawFn) -> dict[str, Any]:
+    """Two progressives of one design and one add (invented), as ``cases`` otherwise."""
+    document = draw(cases())
+    design = {"prism_reference_below_cross_mm": draw(st.sampled_from([2, 4, 6])),
+              "near_depth_mm": draw(st.floats(14, 22)),
+              "near_inset_mm": draw(st.floats(0, 4)),
+              "thinning_prism_base_down": draw(st.sampled_from([0.0, 1.25]))}
+    add = draw(st.sampled_from([0.75, 1.5, 2.0, 2.75]))
+    for eye in ("right", "left"):
+        lens = document[eye]
+        lens.pop("segment", None)
+        lens.update(add=add, progressive=dict(design))
+    if draw(st.booleans()):
+        document["reading_zone"]["reading_point"] = "distance_reference"
+    return document
+
+
+@settings(max_examples=EXAMPLES, deadline=None)
+@given(progressive_pairs())
+def test_yoked_progressives_depth_agrees_with_sampling_and_bisection(
+        document: dict[str, Any]) -> None:
+    """Two progressives of one design and add: their add prism is the same before both
+    eyes at every drop, so the closed form holds (checked against sampling and a dense
+    numpy grid, as for the lenses without a progressive)."""
+    sampler, threshold, depth = _valid(document)
+    assert sampler.piecewise_linear
+    _agrees_with_sampling(sampler, threshold, depth)
+
+
+def test_unlike_progressives_are_sampled() -> None:
+    """Progressives of different adds meet different add prism: no closed form."""
+    document = {**BIFOCAL_ANISOMETROPE,
+                "right": {"sphere": 1.0, "add": 2.0, "progressive": {}},
+                "left": {"sphere": 1.0, "add": 2.5, "progressive": {}}}
+    sampler, _threshold, _depth = _sampler(document)
+    assert not sampler.piecewise_linear
+
+
+def _agrees_with_sampling(sampler: NetSampler, threshold: float, depth: float) -> None:
     closed = closed_form_threshold_drop_mm(sampler, threshold, depth)
     seen: list[tuple[float, float]] = []
 

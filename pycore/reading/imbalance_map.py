@@ -57,8 +57,8 @@ class NetSampler:
         self._extra_vertical = own.vertical_base_up_right - self.prescribed.vertical_base_up_right
         self._extra_horizontal = own.horizontal_base_in - self.prescribed.horizontal_base_in
         self.right_lens, self.left_lens = case.right, case.left
-        self.piecewise_linear = not any(lens.progressive is not None and lens.add
-                                        for lens in (case.right, case.left))
+        self.piecewise_linear = yoked_adds(case) or not any(
+            lens.progressive is not None and lens.add for lens in (case.right, case.left))
         self._right = LensSampler(case.right, "right")
         self._left = LensSampler(case.left, "left")
         self._right_prism, self._left_prism = case.right.prism, case.left.prism
@@ -130,6 +130,17 @@ def own_nets(case: Case, geometry: ReadingGeometry) -> tuple[NetSampler, GazeNet
     found = (sampler, sampler.at(0.0), sampler.at(geometry.reading_drop_mm))
     _LAST[:] = [(case, geometry, *found)]
     return found
+
+
+def yoked_adds(case: Case) -> bool:
+    """Whether both lenses are progressives of one design with one add. Down the reading
+    path both eyes' points are at one height on their lenses (the same fitting cross
+    above the same prism reference point), so the add's vertical prism, a function of
+    that height alone, is the same before both eyes and cancels in the net vertical:
+    what is left is linear in the drop between breaks, as without a progressive."""
+    right, left = case.right, case.left
+    return (right.progressive is not None and bool(right.add)
+            and right.progressive == left.progressive and right.add == left.add)
 
 
 def prescribed_net(case: Case) -> NetPrism:
@@ -217,8 +228,8 @@ def reading_path(sampler: NetSampler, depth_mm: float, step_mm: float) -> list[d
 def threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: float) -> float | None:
     """The smallest drop down the reading path at which the induced vertical imbalance
     reaches ``threshold``, or None if it stays below it to ``depth_mm``: in closed form
-    where the imbalance is piecewise linear in the drop (no progressive lens), else by
-    sampling and bisection."""
+    where the imbalance is piecewise linear in the drop (no progressive lens, or two of
+    one design and add: ``yoked_adds``), else by sampling and bisection."""
     if sampler.piecewise_linear:
         return closed_form_threshold_drop_mm(sampler, threshold, depth_mm)
     return sampled_threshold_drop_mm(sampler, threshold, depth_mm)
@@ -251,14 +262,16 @@ def sampled_threshold_drop_mm(sampler: NetSampler, threshold: float, depth_mm: f
 
 def closed_form_threshold_drop_mm(sampler: NetSampler, threshold: float,
                                   depth_mm: float) -> float | None:
-    """``threshold_drop_mm`` for lenses without a progressive, exactly.
+    """``threshold_drop_mm`` for lenses without a progressive (or two progressives of one
+    design and add, whose add prism cancels in the net vertical: ``yoked_adds``), exactly.
 
     Along the reading path each eye's point on its lens moves linearly with the drop
     (down, and in until the reading point), and the prism before an eye is linear in
     the point within one zone (Prentice's rule for the distance power and for the add
-    about the segment optical centre, a constant slab-off). So the induced imbalance is
-    linear in the drop between breaks: the reading point (the convergence stops),
-    where a point crosses a segment top, a segment outline or a slab line. Each piece
+    about the segment optical centre, a constant slab-off, a constant thinning prism).
+    So the induced imbalance is linear in the drop between breaks: the reading point
+    (the convergence stops), where a point crosses a segment top, a segment outline or
+    a slab line. Each piece
     is found from two points inside it and solved for the threshold; at a break the
     value is the one the lens gives there (the top line counts as in the segment)."""
     breaks = sorted({drop for drop in _path_breaks(sampler, depth_mm) if 0.0 <= drop <= depth_mm})
