@@ -242,6 +242,9 @@ class Baseline:
     evaluate_finished: bool = True
     """False: take a remedy's figures from its closed form where it has one, without
     reading and evaluating its finished case (the live request's remedies)."""
+    shared: dict[Any, Any] = field(default_factory=dict, compare=False, repr=False)
+    """What more than one remedy starts from, worked out by the first that needs it (the
+    near-only spectacles, read and evaluated: pycore.reading.remedies.near_wear)."""
 
     @property
     def near(self) -> float:
@@ -271,6 +274,18 @@ def shifted(figures: Figures, distance_vertical: float = 0.0, near_vertical: flo
                    figures.near_horizontal + horizontal, figures.geometry, figures.prescribed)
 
 
+def figures_of(baseline: Baseline, read: Case) -> Figures:
+    """The figures of a finished case read already (induced parts measured from the
+    baseline's prescribed prism), worked out once for the baseline: more than one remedy
+    may start from the same finished case."""
+    kept = baseline.shared.get(("figures", id(read)))
+    if kept is None or kept[0] is not read:
+        kept = (read, Figures.of(read, baseline.figures.prescribed))
+        baseline.shared["figures", id(read)] = kept
+    figures: Figures = kept[1]
+    return figures
+
+
 def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
                   distance_from_original: bool = False,
                   closed_form: Figures | None = None, read: Case | None = None) -> Remedy:
@@ -286,8 +301,8 @@ def with_figures(remedy: Remedy, document: dict[str, Any], baseline: Baseline,
             # Nothing changed: the finished case is the case itself, evaluated already.
             figures = baseline.figures
         else:
-            figures = Figures.of(read if read is not None else finished(document, baseline.case),
-                                 baseline.figures.prescribed)
+            figures = (figures_of(baseline, read) if read is not None else
+                       Figures.of(finished(document, baseline.case), baseline.figures.prescribed))
     except CaseError as exc:
         return remedy.refuse(f"The finished case would not be valid: {exc.message}")
     if distance_from_original:

@@ -14,15 +14,16 @@ from __future__ import annotations
 
 from typing import Any
 
+from pycore.documents.cases import Case
 from pycore.errors import CaseError
 from pycore.optics.eyes import EYES
 from pycore.optics.prism import Prism
 from pycore.reading.remedies.finished_case import (
     Baseline,
-    Figures,
     Remedy,
     copy_document,
     eye_document,
+    figures_of,
     make_single_vision,
     near_prescription,
     round_to_step,
@@ -44,6 +45,21 @@ def _near_only_document(base: Baseline, worn_as: str) -> dict[str, Any]:
     return document
 
 
+def _near_only(base: Baseline) -> tuple[dict[str, Any], Case]:
+    """The near-only spectacles centred at the near visual points (a document of their
+    own to edit, the reading point written in) and the case read from it: read once for
+    the baseline, since the split prism and the reading spectacles both start there."""
+    if "near_only" not in base.shared:
+        document = _near_only_document(base, "reading_spectacles")
+        base.shared["near_only"] = (document, with_written_points(document, ("near",),
+                                                                  base.case))
+    document, case = base.shared["near_only"]
+    copied = dict(document)
+    for eye in EYES:
+        copied[eye] = dict(document[eye])
+    return copied, case
+
+
 NEAR_CENTRING = "optical centres at the near visual points"
 _LETTER = {"right": "R", "left": "L"}
 
@@ -54,10 +70,9 @@ def near_prism_split(base: Baseline) -> Remedy:
     remedy = Remedy("near_prism_split", "Near-only spectacles with vertical prism split")
     remedy.centring = NEAR_CENTRING
     options = base.options
-    document = _near_only_document(base, "reading_spectacles")
     try:
-        plain = Figures.of(with_written_points(document, ("near",), base.case),
-                           base.figures.prescribed)
+        document, near_only = _near_only(base)
+        plain = figures_of(base, near_only)
     except CaseError as exc:
         return remedy.refuse(f"The near-only spectacles cannot be worked out: {exc.message}")
     total = round_to_step(plain.near_induced, options.lab_step)
@@ -95,9 +110,8 @@ def near_prism_split(base: Baseline) -> Remedy:
 def reading_spectacles(base: Baseline) -> Remedy:
     remedy = Remedy("reading_spectacles", "Separate reading spectacles")
     remedy.centring = NEAR_CENTRING
-    document = _near_only_document(base, "reading_spectacles")
     try:
-        read = with_written_points(document, ("near",), base.case)
+        document, read = _near_only(base)
     except CaseError as exc:
         return remedy.refuse(f"The reading spectacles cannot be worked out: {exc.message}")
     case, geometry = base.case, base.figures.geometry
