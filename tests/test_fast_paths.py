@@ -31,7 +31,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from pycore.documents import json_input
-from pycore.documents.cases import _read_lens_kept, read_case, read_lens
+from pycore.documents.cases import Case, _read_lens_kept, read_case, read_case_text, read_lens
 from pycore.errors import CaseError
 from pycore.evaluate import LIVE_SECTIONS, SECTIONS, evaluate
 from pycore.optics.prism import Prism
@@ -129,14 +129,16 @@ def test_no_negative_zero_without_the_walk(document: dict[str, Any]) -> None:
     case = _case_or_none(document)
     if case is None:
         return
-    for sections in (LIVE_SECTIONS, SECTIONS):
-        try:
-            result = evaluate(case, sections)
-        except CaseError:
-            return
-        text = json.dumps(result, allow_nan=False)
-        walked = json.dumps(without_negative_zero(copy.deepcopy(result)), allow_nan=False)
-        assert text == walked
+    # Read from text too: its remedies' finished cases share the document's own values.
+    for read in (case, read_case_text(json.dumps(document))):
+        for sections in (LIVE_SECTIONS, SECTIONS):
+            try:
+                result = evaluate(read, sections)
+            except CaseError:
+                return
+            text = json.dumps(result, allow_nan=False)
+            walked = json.dumps(without_negative_zero(copy.deepcopy(result)), allow_nan=False)
+            assert text == walked
 
 
 @settings(max_examples=60, deadline=None)
@@ -297,6 +299,14 @@ def test_edited_copies_leave_the_case_document_alone(document: dict[str, Any]) -
     case = _case_or_none(document)
     if case is None:
         return
+    _copies_leave_the_document_alone(case)
+    # Read from text, the document is plain already and its copies share its values.
+    from_text = read_case_text(json.dumps(document))
+    assert from_text.plain_document
+    _copies_leave_the_document_alone(from_text)
+
+
+def _copies_leave_the_document_alone(case: Case) -> None:
     before = json.dumps(case.document, sort_keys=True)
     first, second = copy_document(case), copy_document(case)
     for eye in ("right", "left"):

@@ -72,6 +72,9 @@ class Case:
     extras: Mapping[str, Any] = field(default_factory=dict)
     document: Mapping[str, Any] = field(default_factory=dict, compare=False, repr=False)
     """The parsed document the case was read from (remedies edit a copy of it)."""
+    plain_document: bool = field(default=False, compare=False, repr=False)
+    """True: ``document`` is the case's own, parsed by the one JSON reader (so it holds
+    no -0.0): a remedy's copy may share its values rather than copy them."""
 
     def lens(self, eye: Eye) -> Lens:
         return self.right if eye == "right" else self.left
@@ -98,8 +101,9 @@ they hold is kept in ``Case.extras`` under the same key."""
 _TOP_KEYS = ("right", "left", "points", "fitting", "frame", "name", "notes", "schema")
 
 
-def read_case(document: Any, known: Case | None = None) -> Case:
-    """A validated Case from a parsed JSON document.
+def read_case(document: Any, known: Case | None = None, plain: bool = False) -> Case:
+    """A validated Case from a parsed JSON document (``plain``: parsed by
+    ``load_json`` for this case alone; see ``Case.plain_document``).
 
     ``known``: a case already read whose document the core copied and edited to make
     ``document`` (a remedy's finished case). A part equal to the same part of
@@ -153,7 +157,8 @@ def read_case(document: Any, known: Case | None = None) -> Case:
                     _read_kept(reader, obj[key], key) if key == "reading_zone"
                     else reader(obj[key], key))
               for key, reader in SECTIONS.items() if key in obj}
-    return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj)
+    return Case(lenses["right"], lenses["left"], points, fitting, frame, name, extras, obj,
+                plain)
 
 
 def _height(case: Case, eye: Eye) -> float | None:
@@ -164,7 +169,7 @@ def _height(case: Case, eye: Eye) -> float | None:
 
 
 def read_case_text(text: str | bytes) -> Case:
-    return read_case(load_json(text))
+    return read_case(load_json(text), plain=True)
 
 
 _LENS_KEYS = ("sphere", "cylinder", "axis", "rx", "prism", "add", "segment", "slab_off",

@@ -66,7 +66,7 @@ CACHE = ResultCache()
 
 def _evaluate(payload: Any) -> dict[str, Any]:
     result: dict[str, Any] = CACHE.get(payload, ",".join(SECTIONS),
-                                       lambda: evaluate(read_case(payload)))
+                                       lambda: evaluate(read_case(payload, plain=True)))
     return result
 
 
@@ -86,7 +86,7 @@ def _evaluate_live(payload: Any) -> dict[str, Any]:
                                     f"known: {', '.join(SECTIONS)}.")
     wanted = tuple(name for name in SECTIONS if name in sections)
     result: dict[str, Any] = CACHE.get(case, ",".join(wanted),
-                                       lambda: evaluate(read_case(case), wanted))
+                                       lambda: evaluate(read_case(case, plain=True), wanted))
     return result
 
 
@@ -97,7 +97,8 @@ def _open_remedy(payload: Any) -> dict[str, Any]:
     only_keys(obj, "", ("case", "remedy"))
     case, remedy = _field(obj, "case"), _field(obj, "remedy")
     result: dict[str, Any] = CACHE.get(
-        case, f"remedy:{remedy}", lambda: {"remedy": opened_remedy(read_case(case), remedy)})
+        case, f"remedy:{remedy}", lambda: {"remedy": opened_remedy(read_case(case, plain=True),
+                                                               remedy)})
     return result
 
 

@@ -80,10 +80,14 @@ def copy_document(case: Case) -> dict[str, Any]:
     The top level and each eye's lens are new dicts: the remedies edit there, by putting
     a new value under a key (a new ``slab_off``, ``segment``, ``prism``, ``fitting`` or
     ``reading_zone``), never by changing a value in place. The values below those are
-    shared with the other copies of the same case's document, and are not to be edited."""
-    if not (_PLAIN and _PLAIN[0][0] is case):
-        _PLAIN[:] = [(case, _plain_copy(case.document))]
-    copied = dict(_PLAIN[0][1])
+    shared with the other copies of the same case's document (and with the document
+    itself when it is plain already: ``Case.plain_document``), not to be edited."""
+    if case.plain_document:
+        copied = dict(case.document)
+    else:
+        if not (_PLAIN and _PLAIN[0][0] is case):
+            _PLAIN[:] = [(case, _plain_copy(case.document))]
+        copied = dict(_PLAIN[0][1])
     for eye in EYES:
         if isinstance(copied.get(eye), dict):
             copied[eye] = dict(copied[eye])
