@@ -271,9 +271,9 @@ def closed_form_threshold_drop_mm(sampler: NetSampler, threshold: float,
     about the segment optical centre, a constant slab-off, a constant thinning prism).
     So the induced imbalance is linear in the drop between breaks: the reading point
     (the convergence stops), where a point crosses a segment top, a segment outline or
-    a slab line. Each piece
-    is found from two points inside it and solved for the threshold; at a break the
-    value is the one the lens gives there (the top line counts as in the segment)."""
+    a slab line. Each piece is found from two points inside it and solved for the
+    threshold; at a break the value is the one the lens gives there (the top line
+    counts as in the segment)."""
     breaks = sorted({drop for drop in _path_breaks(sampler, depth_mm) if 0.0 <= drop <= depth_mm})
     for start, end in itertools.pairwise(breaks):
         if abs(sampler.induced_vertical_at(start)) >= threshold:
