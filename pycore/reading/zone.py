@@ -134,15 +134,14 @@ def design_warnings(case: Case, geometry: ReadingGeometry) -> list[str]:
 PARTS = ("band", "map", "sensitivity")
 """The parts of the section that can be asked for alone (pycore.evaluate names them
 ``reading_zone``, ``reading_map`` and ``sensitivity``): the band figures; the map and
-the path down it; the fitting-error table (its warnings are in the band's ``warnings``
-whether or not it is asked for)."""
+the path down it; the fitting-error table with its warnings."""
 
 
 def reading_zone_section(case: Case, result: dict[str, Any],
                          parts: Iterable[str] = PARTS) -> dict[str, Any]:
     """The reading-zone result for a case (see the module docstring): the band figures,
-    with every warning, and ``path``/``map`` and the ``sensitivity`` table where asked
-    for, in the same order of keys as the whole section."""
+    and ``path``/``map`` and ``sensitivity`` (with its warnings) where asked for, in
+    the same order of keys as the whole section."""
     wanted = set(parts)
     options = options_of(case)
     geometry = reading_geometry(case)
