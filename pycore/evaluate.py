@@ -11,8 +11,7 @@
 5. ``reading_zone``: the answer band's figures of the reading zone (the imbalance at
    distance and at the reading point, the threshold depth, the designs), and, asked
    for by name, its folded parts in the same result key: ``reading_map`` (``path``
-   and ``map``) and ``sensitivity`` (the fitting-error table; its warnings are in the
-   band's ``warnings`` whether or not the table is asked for);
+   and ``map``) and ``sensitivity`` (the fitting-error table and its warnings);
 6. ``remedies``: the suggested remedy with its order lines (closed-form figures, the
    remedies built only as far as the choice needs); ``remedies_full``: every remedy
    side by side, each with its finished case read and evaluated (same result key);

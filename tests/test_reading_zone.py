@@ -305,19 +305,6 @@ def test_an_error_that_crosses_the_threshold_is_named() -> None:
     assert any("over the 1.00 threshold" in w for w in zone["sensitivity"]["warnings"])
 
 
-def test_the_answer_says_a_small_error_would_cross_without_the_table() -> None:
-    """The same pair as above (Prentice's rule): the live request, with the fitting-error
-    table folded, still carries the warning that 1 mm would cross the threshold."""
-    from pycore.evaluate import LIVE_SECTIONS
-
-    document = {"right": {"sphere": -1.0}, "left": {"sphere": -3.0}, "fitting": FITTING,
-                "reading_zone": {"reading_depth_mm": 4}}
-    live = evaluate(read_case(document), LIVE_SECTIONS)["reading_zone"]
-    assert "sensitivity" not in live
-    assert any("over the 1.00 threshold" in w for w in live["warnings"])
-    assert live["warnings"] == zone_of(document)["warnings"]
-
-
 def test_gaze_points_stay_on_the_lens() -> None:
     geometry = reading_geometry(read_case(DURHAM))
     point = geometry.lens_point("right", 30.0, 15.0)

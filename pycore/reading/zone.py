@@ -148,10 +148,11 @@ def reading_zone_section(case: Case, result: dict[str, Any],
     sampler, distance, reading = own_nets(case, geometry)
     depth = map_depth_mm(case, options.map_depth_mm, geometry)
     crossing = threshold_drop_mm(sampler, options.threshold, depth)
-    # The fitting-error warnings belong with the answer whether or not the table is
-    # shown: a small error that would take the imbalance over the threshold is said.
-    errors = sensitivity(case, geometry, options.threshold)
-    warnings = design_warnings(case, geometry) + errors["warnings"]
+    warnings = design_warnings(case, geometry)
+    errors = None
+    if "sensitivity" in wanted:
+        errors = sensitivity(case, geometry, options.threshold)
+        warnings += errors["warnings"]
     section: dict[str, Any] = {
         "threshold": {"vertical": options.threshold, "source": THRESHOLD_SOURCE},
         "geometry": geometry.as_dict(),
@@ -175,7 +176,7 @@ def reading_zone_section(case: Case, result: dict[str, Any],
         section["map"]["threshold_drop_mm"] = crossing
     section["image_jump"] = image_jumps(case)
     section["thinning_prism"] = _thinning(case)
-    if "sensitivity" in wanted:
+    if errors is not None:
         section["sensitivity"] = errors
     section["warnings"] = warnings
     section["summary_lines"] = _summary(section, options.threshold,
