@@ -99,6 +99,8 @@ def test_the_live_answer_is_the_whole_answer_in_part(document: dict[str, Any]) -
     for key in BAND_KEYS:
         assert zone[key] == json.loads(json.dumps(full_zone[key])), key
     assert "map" not in zone and "path" not in zone and "sensitivity" not in zone
+    # The text lines are the command line's: never worked out for the band.
+    assert "summary_lines" not in zone and "summary_lines" in full_zone
     remedies, full = result["remedies"], whole["remedies"]
     assert remedies["recommended"] == full["recommended"]
     # Every remedy keeps its place, so a dotted path names the same remedy in both.

@@ -141,7 +141,8 @@ def reading_zone_section(case: Case, result: dict[str, Any],
                          parts: Iterable[str] = PARTS) -> dict[str, Any]:
     """The reading-zone result for a case (see the module docstring): the band figures,
     and ``path``/``map`` and ``sensitivity`` (with its warnings) where asked for, in
-    the same order of keys as the whole section."""
+    the same order of keys as the whole section; ``summary_lines`` (text for the command
+    line) only with every part."""
     wanted = set(parts)
     options = options_of(case)
     geometry = reading_geometry(case)
@@ -179,8 +180,9 @@ def reading_zone_section(case: Case, result: dict[str, Any],
     if errors is not None:
         section["sensitivity"] = errors
     section["warnings"] = warnings
-    section["summary_lines"] = _summary(section, options.threshold,
-                                        last_row_mm(depth, options.map_step_mm))
+    if wanted >= set(PARTS):   # the text lines are the command line's, for the whole section
+        section["summary_lines"] = _summary(section, options.threshold,
+                                            last_row_mm(depth, options.map_step_mm))
     return section
 
 
