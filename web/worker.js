@@ -6,7 +6,7 @@
 //
 // Start-up: the runtime, the lock file and the core's wheel are fetched in
 // parallel; the wheel is hash checked (its sha256 from the lock file) and
-// unpacked into site-packages. After the first answer, an image of the warmed
+// unpacked into site-packages (inflated while the runtime starts). After the first answer, an image of the warmed
 // interpreter's memory is kept in Cache Storage, so later visits restore it
 // instead of booting Python and importing the core again. Any trouble with that
 // image falls back to the ordinary start.
@@ -127,6 +127,60 @@ async function fetchOk(url, options, what) {
   return response;
 }
 
+// The wheel's files as [path in the wheel, bytes], read from its zip directory and
+// inflated here (DecompressionStream) while the runtime starts, so that installing them
+// is only writing files. The wheel's bytes were checked against the lock file's sha256
+// when fetched. Null when this browser cannot inflate or the archive is not as expected:
+// Python's zipfile then unpacks it.
+async function wheelFiles(buffer) {
+  if (typeof DecompressionStream !== "function") return null;
+  const bytes = new Uint8Array(buffer);
+  const view = new DataView(buffer);
+  const word = (at) => view.getUint32(at, true);
+  const half = (at) => view.getUint16(at, true);
+  let end = bytes.length - 22;
+  while (end >= 0 && word(end) !== 0x06054b50) end--;
+  if (end < 0) return null;
+  const names = new TextDecoder("utf-8", { fatal: true });
+  const files = [];
+  let at = word(end + 16);
+  for (let i = half(end + 10); i > 0; i--) {
+    if (word(at) !== 0x02014b50) return null;
+    const method = half(at + 10);
+    const size = word(at + 20);
+    const name = names.decode(bytes.subarray(at + 46, at + 46 + half(at + 28)));
+    const local = word(at + 42);
+    at += 46 + half(at + 28) + half(at + 30) + half(at + 32);
+    if (word(local) !== 0x04034b50 || (method !== 0 && method !== 8)
+      || name.startsWith("/") || name.split("/").includes("..")) return null;
+    const start = local + 30 + half(local + 26) + half(local + 28);
+    const packed = bytes.subarray(start, start + size);
+    files.push(method === 0 ? [name, packed] : new Response(
+      new Blob([packed]).stream().pipeThrough(new DecompressionStream("deflate-raw")))
+      .arrayBuffer().then((data) => [name, new Uint8Array(data)]));
+  }
+  return Promise.all(files);
+}
+
+// Writes the wheel's files into site-packages: inflated already (wheelFiles), or
+// with Python's zipfile.
+function install(pyodide, buffer, files) {
+  if (files) {
+    const root = pyodide.runPython("import site\nsite.getsitepackages()[0]");
+    for (const [name, data] of files) {
+      const path = `${root}/${name}`;
+      pyodide.FS.mkdirTree(path.slice(0, path.lastIndexOf("/")));
+      pyodide.FS.writeFile(path, data);
+    }
+    return;
+  }
+  pyodide.FS.writeFile("/tmp/prism_desk.whl", new Uint8Array(buffer));
+  pyodide.runPython("import site, zipfile\n" +
+    "with zipfile.ZipFile('/tmp/prism_desk.whl') as w: w.extractall(site.getsitepackages()[0])\n" +
+    "del site, zipfile, w");
+  pyodide.FS.unlink("/tmp/prism_desk.whl");
+}
+
 async function openImages() {
   try {
     return await caches.open(SNAPSHOT_CACHE);
@@ -150,6 +204,10 @@ async function start(useImage = true) {
     return hit ? new Uint8Array(await hit.arrayBuffer()) : null;
   }).catch(() => null);
   wheel.catch(() => {});
+  const inflated = wheel.then(wheelFiles).catch((err) => {
+    console.warn("wheel not inflated here; Python unpacks it:", err && err.message);
+    return null;
+  });
 
   const [{ loadPyodide, version: runtimeVersion }, lockData, saved] =
     await Promise.all([import("./pyodide/pyodide.mjs").catch((err) => {
@@ -183,11 +241,7 @@ async function start(useImage = true) {
   // modules are already in memory, but their files are needed for later imports.
   let bridge;
   try {
-    pyodide.FS.writeFile("/tmp/prism_desk.whl", new Uint8Array(await wheel));
-    pyodide.runPython("import site, zipfile\n" +
-      "with zipfile.ZipFile('/tmp/prism_desk.whl') as w: w.extractall(site.getsitepackages()[0])\n" +
-      "del site, zipfile, w");
-    pyodide.FS.unlink("/tmp/prism_desk.whl");
+    install(pyodide, await wheel, await inflated);
     mark("unpacked");
     bridge = pyodide.pyimport("pycore.interfaces.bridge");
   } catch (err) {
