@@ -173,6 +173,26 @@ def test_damaged_image_is_replaced_and_the_app_still_starts(context, site, watch
     assert wait_image(again, check="size > 1e6") == key
 
 
+def test_without_decompression_stream_python_unpacks_the_wheel(context, site, watch):
+    """A browser without DecompressionStream (older Safari): the worker cannot inflate
+    the wheel itself and has Python's zipfile unpack it; the core is whole either way."""
+    served = []
+
+    def older_browser(route):
+        served.append(route.request.url)
+        original = route.fetch()
+        route.fulfill(response=original,
+                      body="globalThis.DecompressionStream = undefined;\n" + original.text())
+
+    page = context.new_page()
+    page.route("**/worker.js", older_browser)
+    page.goto(site.url + case_fragment(CASES["crossed-obliques"]))
+    wait_result(page)
+    assert served, "the worker script was not served through the route"
+    assert page.get_attribute("body", "data-engine-start") == "boot"
+    assert_figures_match(page, cli_evaluate(address_case(page)))
+
+
 def test_installable(context, own_site, watch):
     page = context.new_page()
     page.goto(own_site.url)
