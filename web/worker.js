@@ -5,11 +5,11 @@
 // See docs/worker-protocol.md.
 //
 // Start-up: the runtime, the lock file and the core's wheel are fetched in
-// parallel; the wheel is hash checked (its sha256 from the lock file) and
-// unpacked into site-packages (inflated while the runtime starts). After the first answer, an image of the warmed
-// interpreter's memory is kept in Cache Storage, so later visits restore it
-// instead of booting Python and importing the core again. Any trouble with that
-// image falls back to the ordinary start.
+// parallel; the wheel is hash checked (its sha256 from the lock file), inflated
+// while the runtime starts and written into site-packages once it is up. After
+// the first answer, an image of the warmed interpreter's memory is kept in Cache
+// Storage, so later visits restore it instead of booting Python and importing the
+// core again. Any trouble with that image falls back to the ordinary start.
 
 const t0 = performance.now();
 const timings = {};
